@@ -1,0 +1,32 @@
+namespace TeachServe.Core.Projects;
+
+/// <summary>One item as a project owner supplies it (a line of <c>items.jsonl</c>).</summary>
+public sealed record ItemDefinition
+{
+    public required string Id { get; init; }
+    /// <summary><c>teach</c> or <c>test</c>.</summary>
+    public required string Pool { get; init; }
+    /// <summary>The true label, one of the project's label names.</summary>
+    public required string Label { get; init; }
+    public IReadOnlyDictionary<string, double>? Features { get; init; }
+    public IReadOnlyList<string>? Attributes { get; init; }
+    public ItemContent? Content { get; init; }
+    public string? Explanation { get; init; }
+}
+
+/// <summary>What the annotator sees.</summary>
+public sealed record ItemContent
+{
+    public string? Text { get; init; }
+    public string? ImageUrl { get; init; }
+    public string? Svg { get; init; }
+}
+
+public static class Pools
+{
+    public const string Teach = "teach";
+    public const string Test = "test";
+}
+
+/// <summary>A project as loaded: settings plus items, already validated.</summary>
+public sealed record ProjectDefinition(ProjectSettings Settings, IReadOnlyList<ItemDefinition> Items);
