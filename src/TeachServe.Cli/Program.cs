@@ -13,8 +13,23 @@ internal static class Program
     internal static int Run(string[] args, TextWriter output, TextWriter error) => args switch
     {
         ["seed", .. var rest] => SeedCommand.Run(rest, output, error),
+        ["compile", .. var rest] => OnProject(() => CompileCommand.Run(rest, output, error), error),
+        ["simulate", .. var rest] => OnProject(() => SimulateCommand.Run(rest, output, error), error),
         ["help" or "--help" or "-h", ..] => Usage.Show(output),
         [] => Usage.Fail(error, "no verb given"),
         [var verb, ..] => Usage.Fail(error, $"unknown verb '{verb}'"),
     };
+
+    /// <summary>Runs a verb that loads a project folder, turning validation failures into the problem list.</summary>
+    private static int OnProject(Func<int> verb, TextWriter error)
+    {
+        try
+        {
+            return verb();
+        }
+        catch (TeachServe.Core.Projects.ProjectValidationException ex)
+        {
+            return ProblemReport.Fail(error, ex.Problems);
+        }
+    }
 }

@@ -6,6 +6,8 @@ internal static class Usage
     private static readonly string[] Verbs =
     [
         SeedCommand.Synopsis,
+        CompileCommand.Usage,
+        SimulateCommand.Usage,
     ];
 
     public static int Show(TextWriter output)
