@@ -49,6 +49,18 @@ public sealed class Belief
 
     public Belief Clone() => new(this);
 
+    /// <summary>Overwrites this belief with <paramref name="other"/>'s state, allocating nothing (same model version).</summary>
+    internal void CopyFrom(Belief other)
+    {
+        if (other._model != _model || other.Q != Q || other.Lapse != Lapse)
+        {
+            throw new ArgumentException("Beliefs over different model versions or learner parameters.", nameof(other));
+        }
+
+        other._belief.CopyTo(_belief, 0);
+        other._learner.CopyTo(_learner, 0);
+    }
+
     /// <summary>A teaching answer: observe the answer, then the learner sees the true label and may switch.</summary>
     public void Teach(int item, int answer)
     {

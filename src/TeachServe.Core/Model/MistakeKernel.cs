@@ -156,6 +156,27 @@ public static class MistakeKernel
         ScalarRowSums(row, a, b, c, d, out sumA, out sumB, out sumC, out sumD);
     }
 
+    /// <summary>
+    /// Masked sums of four weight vectors over many rows of a packed mistake matrix: for the k-th entry of
+    /// <paramref name="rows"/>, <paramref name="sums"/>[4k..4k+3] receive the sums of a, b, c and d.
+    /// </summary>
+    public static void RowSums4(
+        ReadOnlySpan<ulong> bits,
+        int wordsPerRow,
+        ReadOnlySpan<int> rows,
+        ReadOnlySpan<float> a,
+        ReadOnlySpan<float> b,
+        ReadOnlySpan<float> c,
+        ReadOnlySpan<float> d,
+        Span<double> sums)
+    {
+        ArgumentOutOfRangeException.ThrowIfLessThan(sums.Length, rows.Length * 4, nameof(sums));
+        for (var k = 0; k < rows.Length; k++)
+        {
+            RowSums4(bits.Slice(rows[k] * wordsPerRow, wordsPerRow), a, b, c, d, out sums[4 * k], out sums[(4 * k) + 1], out sums[(4 * k) + 2], out sums[(4 * k) + 3]);
+        }
+    }
+
     private static void ScalarRowSums(
         ReadOnlySpan<ulong> row,
         ReadOnlySpan<float> a,
