@@ -1,6 +1,12 @@
 using BenchmarkDotNet.Running;
 using TeachServe.Benchmarks;
 
+if (args.Length > 0 && args[0] == "--compile")
+{
+    QuickCheck.Compile(args.Length > 1 ? args[1] : BenchCases.Small, Console.Out);
+    return;
+}
+
 if (args.Length > 0 && args[0] == "--quick")
 {
     QuickCheck.Run(args.Length > 1 ? args[1] : BenchCases.Small, Console.Out);

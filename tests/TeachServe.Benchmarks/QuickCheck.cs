@@ -1,5 +1,6 @@
 using System.Diagnostics;
 using System.Globalization;
+using TeachServe.Core.Model;
 
 namespace TeachServe.Benchmarks;
 
@@ -17,9 +18,30 @@ public static class QuickCheck
         output.WriteLine($"{benchCase}: setup {stopwatch.Elapsed.TotalSeconds:0.0} s");
         Time(output, "per-answer", () => step.PerAnswer());
         Time(output, "floor", () => step.Floor());
+        Time(output, "row by row", () => step.FloorRowByRow());
         var reference = new ReferenceStepBenchmarks { Case = benchCase };
         reference.Setup();
         Time(output, "reference", () => reference.Reference(), repeats: 2);
+    }
+
+    /// <summary><c>--compile [case]</c>: wall time of each compile stage.</summary>
+    public static void Compile(string benchCase, TextWriter output)
+    {
+        var stopwatch = Stopwatch.StartNew();
+        var (truth, ids, hypotheses) = SyntheticModels.Predictions(benchCase);
+        output.WriteLine($"{benchCase}: predictions {stopwatch.Elapsed.TotalSeconds:0.00} s");
+        stopwatch.Restart();
+        var model = SyntheticModels.Compile(truth, ids, BenchCases.Size(benchCase).Teach, hypotheses);
+        output.WriteLine($"  compile {stopwatch.Elapsed.TotalSeconds:0.00} s (greedy {model.GreedySequence.Count}, cover {model.CoverSequence.Count})");
+        stopwatch.Restart();
+        TeachingOrders.StochasticGreedy(model, model.Q, Math.Min(model.TeachCount, ModelCompiler.PrecomputedGreedyLength));
+        output.WriteLine($"  greedy {stopwatch.Elapsed.TotalSeconds:0.00} s");
+        stopwatch.Restart();
+        TeachingOrders.Cover(model, out _);
+        output.WriteLine($"  cover {stopwatch.Elapsed.TotalSeconds:0.00} s");
+        stopwatch.Restart();
+        TeachingOrders.EasyFirst(model);
+        output.WriteLine($"  easy-first {stopwatch.Elapsed.TotalSeconds:0.00} s");
     }
 
     private static void Time(TextWriter output, string name, Func<object> action, int repeats = 20)

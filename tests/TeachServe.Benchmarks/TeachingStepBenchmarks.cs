@@ -73,6 +73,20 @@ public class TeachingStepBenchmarks
         MistakeKernel.RowSums4(_model.MistakeBits, _model.WordsPerRow, _unshown, _a, _b, _c, _d, _sums);
         return _sums[0] + _sums[^1];
     }
+
+    /// <summary>The floor computed one row at a time (weights reread per row): shows what cache blocking buys.</summary>
+    [Benchmark(Description = "floor, row by row")]
+    public double FloorRowByRow()
+    {
+        var total = 0.0;
+        foreach (var x in _unshown)
+        {
+            MistakeKernel.RowSums4(_model.MistakeRow(x), _a, _b, _c, _d, out var s0, out _, out _, out var s3);
+            total += s0 + s3;
+        }
+
+        return total;
+    }
 }
 
 /// <summary>The same step by <see cref="ReferenceTeacher"/>: plain loops, doubles, one prediction at a time.</summary>

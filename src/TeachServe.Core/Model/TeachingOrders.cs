@@ -50,20 +50,42 @@ public static class TeachingOrders
             scratch[h] = (float)(learner[h] / total * error[h]);
         }
 
+        return ArgMaxRowSum(model, scratch, shown, out gain);
+    }
+
+    /// <summary>Rows evaluated per call of the many-row kernel; small enough for the stack.</summary>
+    internal const int CandidateChunk = 256;
+
+    /// <summary>
+    /// The unshown teach item with the largest masked sum of <paramref name="weights"/> (the first of equal ones),
+    /// or -1 when every item has been shown.
+    /// </summary>
+    internal static int ArgMaxRowSum(ModelVersion model, ReadOnlySpan<float> weights, ReadOnlySpan<bool> shown, out double gain, ReadOnlySpan<ulong> columns = default)
+    {
+        Span<int> rows = stackalloc int[CandidateChunk];
+        Span<double> sums = stackalloc double[CandidateChunk];
         var best = -1;
         gain = double.NegativeInfinity;
-        for (var x = 0; x < model.TeachCount; x++)
+        var x = 0;
+        while (x < model.TeachCount)
         {
-            if (shown[x])
+            var count = 0;
+            for (; x < model.TeachCount && count < CandidateChunk; x++)
             {
-                continue;
+                if (!shown[x])
+                {
+                    rows[count++] = x;
+                }
             }
 
-            var g = MistakeKernel.RowSum(model.MistakeRow(x), scratch);
-            if (g > gain)
+            MistakeKernel.RowSum(model.MistakeBits, model.WordsPerRow, rows[..count], weights, sums, columns);
+            for (var k = 0; k < count; k++)
             {
-                gain = g;
-                best = x;
+                if (sums[k] > gain)
+                {
+                    gain = sums[k];
+                    best = rows[k];
+                }
             }
         }
 
@@ -99,28 +121,19 @@ public static class TeachingOrders
             consistent[h] = (float)prior[h];
         }
 
+        // Eliminated hypotheses have weight 0; masking their columns lets the kernel skip whole words of them.
+        var alive = new ulong[model.WordsPerRow];
+        for (var h = 0; h < prior.Length; h++)
+        {
+            alive[h >> 6] |= 1UL << (h & 63);
+        }
+
         var shown = new bool[model.TeachCount];
         var sequence = new List<int>();
         while (true)
         {
-            var best = -1;
-            var bestGain = 0.0;
-            for (var x = 0; x < model.TeachCount; x++)
-            {
-                if (shown[x])
-                {
-                    continue;
-                }
-
-                var g = MistakeKernel.RowSum(model.MistakeRow(x), consistent);
-                if (g > bestGain)
-                {
-                    bestGain = g;
-                    best = x;
-                }
-            }
-
-            if (best < 0)
+            var best = ArgMaxRowSum(model, consistent, shown, out var bestGain, alive);
+            if (best < 0 || !(bestGain > 0))
             {
                 break;
             }
@@ -131,6 +144,7 @@ public static class TeachingOrders
             for (var w = 0; w < row.Length; w++)
             {
                 var bits = row[w];
+                alive[w] &= ~bits;
                 while (bits != 0)
                 {
                     consistent[(w * 64) + System.Numerics.BitOperations.TrailingZeroCount(bits)] = 0f;
