@@ -10,26 +10,90 @@ public static class TeachingOrders
     public static int[] StochasticGreedy(ModelVersion model, double q, int length, CancellationToken cancellationToken = default)
     {
         var m = model.HypothesisCount;
+        var error = model.Error;
         var learner = model.Prior.ToArray();
         var shown = new bool[model.TeachCount];
         var weights = new float[MistakeKernel.PaddedLength(m)];
         var sequence = new List<int>(length);
+
+        // Lazy evaluation (Minoux 1978): the unnormalised gain Σ_h Q(h|A)·err(h)·(1 − ℓ(h,x)) only shrinks as A
+        // grows, so a gain computed at an earlier step bounds the current one. Each step evaluates candidates in
+        // order of their bounds and stops once the best fresh gain beats every remaining bound by a margin wider
+        // than float rounding; the pick is then the one the full scan (NextGreedy) would make.
+        var bound = new double[model.TeachCount];
+        Array.Fill(bound, double.PositiveInfinity);
+        var order = new int[model.TeachCount];
+        Span<int> rows = stackalloc int[LazyBatch];
+        Span<double> sums = stackalloc double[LazyBatch];
         for (var step = 0; step < length; step++)
         {
             cancellationToken.ThrowIfCancellationRequested();
-            var item = NextGreedy(model, learner, shown, weights, out var gain);
-            if (item < 0 || gain <= 0)
+            var total = 0.0;
+            for (var h = 0; h < m; h++)
+            {
+                total += learner[h];
+            }
+
+            for (var h = 0; h < m; h++)
+            {
+                weights[h] = (float)(learner[h] / total * error[h]);
+            }
+
+            var candidates = 0;
+            for (var x = 0; x < model.TeachCount; x++)
+            {
+                if (!shown[x])
+                {
+                    order[candidates++] = x;
+                }
+            }
+
+            if (candidates == 0)
             {
                 break;
             }
 
-            sequence.Add(item);
-            shown[item] = true;
-            ApplyShown(model, learner, item, q);
+            var byBound = order.AsSpan(0, candidates);
+            byBound.Sort((x, y) => bound[x] != bound[y] ? bound[y].CompareTo(bound[x]) : x.CompareTo(y));
+            var best = -1;
+            var bestGain = double.NegativeInfinity;
+            var next = 0;
+            while (next < candidates && !(bound[byBound[next]] * (1 + LazyMargin) < bestGain * total))
+            {
+                var count = Math.Min(LazyBatch, candidates - next);
+                byBound.Slice(next, count).CopyTo(rows);
+                next += count;
+                MistakeKernel.RowSum(model.MistakeBits, model.WordsPerRow, rows[..count], weights, sums);
+                for (var k = 0; k < count; k++)
+                {
+                    var x = rows[k];
+                    bound[x] = sums[k] * total;
+                    if (sums[k] > bestGain || (sums[k] == bestGain && x < best))
+                    {
+                        bestGain = sums[k];
+                        best = x;
+                    }
+                }
+            }
+
+            if (best < 0 || bestGain <= 0)
+            {
+                break;
+            }
+
+            sequence.Add(best);
+            shown[best] = true;
+            ApplyShown(model, learner, best, q);
         }
 
         return [.. sequence];
     }
+
+    /// <summary>Candidates evaluated together by the lazy greedy: enough rows to reuse each block of weights.</summary>
+    private const int LazyBatch = 64;
+
+    /// <summary>Relative margin by which a fresh gain must beat a stale bound; float sums are good to about 1e-6.</summary>
+    private const double LazyMargin = 1e-4;
 
     /// <summary>
     /// One step of the stochastic-greedy rule given the learner's unnormalised posterior <paramref name="learner"/>;
