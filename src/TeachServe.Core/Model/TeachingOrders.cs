@@ -23,8 +23,6 @@ public static class TeachingOrders
         var bound = new double[model.TeachCount];
         Array.Fill(bound, double.PositiveInfinity);
         var order = new int[model.TeachCount];
-        Span<int> rows = stackalloc int[LazyBatch];
-        Span<double> sums = stackalloc double[LazyBatch];
         for (var step = 0; step < length; step++)
         {
             cancellationToken.ThrowIfCancellationRequested();
@@ -39,43 +37,7 @@ public static class TeachingOrders
                 weights[h] = (float)(learner[h] / total * error[h]);
             }
 
-            var candidates = 0;
-            for (var x = 0; x < model.TeachCount; x++)
-            {
-                if (!shown[x])
-                {
-                    order[candidates++] = x;
-                }
-            }
-
-            if (candidates == 0)
-            {
-                break;
-            }
-
-            var byBound = order.AsSpan(0, candidates);
-            byBound.Sort((x, y) => bound[x] != bound[y] ? bound[y].CompareTo(bound[x]) : x.CompareTo(y));
-            var best = -1;
-            var bestGain = double.NegativeInfinity;
-            var next = 0;
-            while (next < candidates && !(bound[byBound[next]] * (1 + LazyMargin) < bestGain * total))
-            {
-                var count = Math.Min(LazyBatch, candidates - next);
-                byBound.Slice(next, count).CopyTo(rows);
-                next += count;
-                MistakeKernel.RowSum(model.MistakeBits, model.WordsPerRow, rows[..count], weights, sums);
-                for (var k = 0; k < count; k++)
-                {
-                    var x = rows[k];
-                    bound[x] = sums[k] * total;
-                    if (sums[k] > bestGain || (sums[k] == bestGain && x < best))
-                    {
-                        bestGain = sums[k];
-                        best = x;
-                    }
-                }
-            }
-
+            var best = LazyArgMax(model, weights, total, shown, bound, order, default, out var bestGain);
             if (best < 0 || bestGain <= 0)
             {
                 break;
@@ -94,6 +56,51 @@ public static class TeachingOrders
 
     /// <summary>Relative margin by which a fresh gain must beat a stale bound; float sums are good to about 1e-6.</summary>
     private const double LazyMargin = 1e-4;
+
+    /// <summary>
+    /// One lazy step: the unshown item with the largest masked sum of <paramref name="weights"/> (the first of
+    /// equal ones), evaluating candidates in order of <paramref name="bound"/> — earlier sums times their
+    /// <paramref name="scale"/>, valid upper bounds because the caller's unscaled weights only shrink — and
+    /// refreshing the bounds of those it evaluates. -1 when every item has been shown.
+    /// </summary>
+    private static int LazyArgMax(ModelVersion model, ReadOnlySpan<float> weights, double scale, bool[] shown, double[] bound, int[] order, ReadOnlySpan<ulong> columns, out double bestGain)
+    {
+        var candidates = 0;
+        for (var x = 0; x < model.TeachCount; x++)
+        {
+            if (!shown[x])
+            {
+                order[candidates++] = x;
+            }
+        }
+
+        var byBound = order.AsSpan(0, candidates);
+        byBound.Sort((x, y) => bound[x] != bound[y] ? bound[y].CompareTo(bound[x]) : x.CompareTo(y));
+        Span<int> rows = stackalloc int[LazyBatch];
+        Span<double> sums = stackalloc double[LazyBatch];
+        var best = -1;
+        bestGain = double.NegativeInfinity;
+        var next = 0;
+        while (next < candidates && !(bound[byBound[next]] * (1 + LazyMargin) < bestGain * scale))
+        {
+            var count = Math.Min(LazyBatch, candidates - next);
+            byBound.Slice(next, count).CopyTo(rows);
+            next += count;
+            MistakeKernel.RowSum(model.MistakeBits, model.WordsPerRow, rows[..count], weights, sums, columns);
+            for (var k = 0; k < count; k++)
+            {
+                var x = rows[k];
+                bound[x] = sums[k] * scale;
+                if (sums[k] > bestGain || (sums[k] == bestGain && x < best))
+                {
+                    bestGain = sums[k];
+                    best = x;
+                }
+            }
+        }
+
+        return best;
+    }
 
     /// <summary>
     /// One step of the stochastic-greedy rule given the learner's unnormalised posterior <paramref name="learner"/>;
@@ -192,11 +199,15 @@ public static class TeachingOrders
             alive[h >> 6] |= 1UL << (h & 63);
         }
 
+        // Eliminated mass only grows, so the same lazy evaluation as the stochastic greedy applies.
         var shown = new bool[model.TeachCount];
+        var bound = new double[model.TeachCount];
+        Array.Fill(bound, double.PositiveInfinity);
+        var order = new int[model.TeachCount];
         var sequence = new List<int>();
         while (true)
         {
-            var best = ArgMaxRowSum(model, consistent, shown, out var bestGain, alive);
+            var best = LazyArgMax(model, consistent, 1.0, shown, bound, order, alive, out var bestGain);
             if (best < 0 || !(bestGain > 0))
             {
                 break;

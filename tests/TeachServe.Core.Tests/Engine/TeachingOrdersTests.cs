@@ -38,4 +38,45 @@ public class TeachingOrdersTests
         var q = model.Q;
         Assert.Equal(EagerGreedy(model, q, 120), TeachingOrders.StochasticGreedy(model, q, 120));
     }
+
+    /// <summary>The cover order by full scans: each step the item eliminating the most consistent prior mass.</summary>
+    private static int[] EagerCover(ModelVersion model)
+    {
+        var consistent = new float[MistakeKernel.PaddedLength(model.HypothesisCount)];
+        for (var h = 0; h < model.HypothesisCount; h++)
+        {
+            consistent[h] = (float)model.Prior[h];
+        }
+
+        var shown = new bool[model.TeachCount];
+        var sequence = new List<int>();
+        while (true)
+        {
+            var best = TeachingOrders.ArgMaxRowSum(model, consistent, shown, out var gain);
+            if (best < 0 || !(gain > 0))
+            {
+                return [.. sequence];
+            }
+
+            sequence.Add(best);
+            shown[best] = true;
+            for (var h = 0; h < model.HypothesisCount; h++)
+            {
+                if (model.Mistake(h, best))
+                {
+                    consistent[h] = 0;
+                }
+            }
+        }
+    }
+
+    [Theory]
+    [InlineData(81, 2)]
+    [InlineData(82, 3)]
+    [InlineData(83, 2)]
+    public void Lazy_cover_matches_the_full_scan(int seed, int labels)
+    {
+        var model = TinyModels.Random(seed, m: 4_000, teach: 200, test: 10, labels, alpha: 1, lapse: 0);
+        Assert.Equal(EagerCover(model), TeachingOrders.Cover(model, out _));
+    }
 }
