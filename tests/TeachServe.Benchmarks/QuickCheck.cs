@@ -44,7 +44,7 @@ public static class QuickCheck
         output.WriteLine($"  easy-first {stopwatch.Elapsed.TotalSeconds:0.00} s");
     }
 
-    private static void Time(TextWriter output, string name, Func<object> action, int repeats = 20)
+    private static void Time(TextWriter output, string name, Func<object> action, int repeats = 60)
     {
         action();
         var best = double.PositiveInfinity;
