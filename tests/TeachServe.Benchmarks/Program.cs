@@ -1,1 +1,17 @@
-BenchmarkDotNet.Running.BenchmarkSwitcher.FromAssembly(typeof(Program).Assembly).Run(args);
+using BenchmarkDotNet.Running;
+using TeachServe.Benchmarks;
+
+if (args.Length > 0 && args[0] == "--compile")
+{
+    QuickCheck.Compile(args.Length > 1 ? args[1] : BenchCases.Small, Console.Out);
+    return;
+}
+
+if (args.Length > 0 && args[0] == "--quick")
+{
+    QuickCheck.Run(args.Length > 1 ? args[1] : BenchCases.Small, Console.Out);
+    return;
+}
+
+var summaries = BenchmarkSwitcher.FromAssembly(typeof(Program).Assembly).Run(args).ToArray();
+RatioTable.Print(summaries, Console.Out);

@@ -49,6 +49,18 @@ public sealed class Belief
 
     public Belief Clone() => new(this);
 
+    /// <summary>Overwrites this belief with <paramref name="other"/>'s state, allocating nothing (same model version).</summary>
+    internal void CopyFrom(Belief other)
+    {
+        if (other._model != _model || other.Q != Q || other.Lapse != Lapse)
+        {
+            throw new ArgumentException("Beliefs over different model versions or learner parameters.", nameof(other));
+        }
+
+        other._belief.CopyTo(_belief, 0);
+        other._learner.CopyTo(_learner, 0);
+    }
+
     /// <summary>A teaching answer: observe the answer, then the learner sees the true label and may switch.</summary>
     public void Teach(int item, int answer)
     {
@@ -70,16 +82,16 @@ public sealed class Belief
         var row = _model.MistakeRow(item);
         var predictions = k == 2 ? default : _model.PredictionBytes.Slice(item * m, m);
 
-        // Two labels: h agrees with the answer exactly when (h mislabels x) == (the answer is wrong).
+        // Two labels: h agrees with the answer exactly when (h mislabels x) == (the answer is wrong), so the
+        // agreeing hypotheses are one word of mistake bits, flipped or not, and the loops need no branches.
         var answerWrong = answer != truth;
+        var flip = answerWrong ? 0UL : ulong.MaxValue;
+        Span<double> factor = stackalloc double[2];
         var agreeMass = 0.0;
         for (var h = 0; h < m; h++)
         {
-            var agrees = k == 2 ? ((row[h >> 6] & (1UL << (h & 63))) != 0) == answerWrong : predictions[h] == answer;
-            if (agrees)
-            {
-                agreeMass += _belief[h];
-            }
+            var agrees = k == 2 ? (((row[h >> 6] ^ flip) >> (h & 63)) & 1) != 0 : predictions[h] == answer;
+            agreeMass += agrees ? _belief[h] : 0.0;
         }
 
         var total = (agree * agreeMass) + (disagree * (1.0 - agreeMass));
@@ -88,12 +100,12 @@ public sealed class Belief
             return;
         }
 
-        var agreeFactor = agree / total;
-        var disagreeFactor = disagree / total;
+        factor[0] = disagree / total;
+        factor[1] = agree / total;
         for (var h = 0; h < m; h++)
         {
-            var agrees = k == 2 ? ((row[h >> 6] & (1UL << (h & 63))) != 0) == answerWrong : predictions[h] == answer;
-            _belief[h] *= agrees ? agreeFactor : disagreeFactor;
+            var agrees = k == 2 ? (int)(((row[h >> 6] ^ flip) >> (h & 63)) & 1) : (predictions[h] == answer ? 1 : 0);
+            _belief[h] *= factor[agrees];
         }
     }
 

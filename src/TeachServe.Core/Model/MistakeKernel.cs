@@ -156,6 +156,179 @@ public static class MistakeKernel
         ScalarRowSums(row, a, b, c, d, out sumA, out sumB, out sumC, out sumD);
     }
 
+    /// <summary>
+    /// Hypotheses per cache block of the many-row kernels: four float vectors over 1,024 hypotheses take 16 KiB,
+    /// so a block of weights stays in L1 while every row streams past it. Row by row, |H| = 100,000 needs 1.6 MB
+    /// of weights per row, reread from L3 each time.
+    /// </summary>
+    private const int BlockWords = 16;
+
+    /// <summary>
+    /// Masked sums of four weight vectors over many rows of a packed mistake matrix: for the k-th entry of
+    /// <paramref name="rows"/>, <paramref name="sums"/>[4k..4k+3] receive the sums of a, b, c and d. Same values
+    /// as <see cref="RowSums4(ReadOnlySpan{ulong}, ReadOnlySpan{float}, ReadOnlySpan{float}, ReadOnlySpan{float}, ReadOnlySpan{float}, out double, out double, out double, out double)"/>
+    /// row by row, up to float rounding (partial sums per block are added in double).
+    /// </summary>
+    [MethodImpl(MethodImplOptions.AggressiveOptimization)]
+    public static void RowSums4(
+        ReadOnlySpan<ulong> bits,
+        int wordsPerRow,
+        ReadOnlySpan<int> rows,
+        ReadOnlySpan<float> a,
+        ReadOnlySpan<float> b,
+        ReadOnlySpan<float> c,
+        ReadOnlySpan<float> d,
+        Span<double> sums)
+    {
+        CheckBatch(bits, wordsPerRow, rows, sums, 4);
+        CheckWeights(wordsPerRow, a);
+        CheckWeights(wordsPerRow, b);
+        CheckWeights(wordsPerRow, c);
+        CheckWeights(wordsPerRow, d);
+        sums = sums[..(rows.Length * 4)];
+        if (!Vector256.IsHardwareAccelerated)
+        {
+            for (var k = 0; k < rows.Length; k++)
+            {
+                ScalarRowSums(bits.Slice(rows[k] * wordsPerRow, wordsPerRow), a, b, c, d, out sums[4 * k], out sums[(4 * k) + 1], out sums[(4 * k) + 2], out sums[(4 * k) + 3]);
+            }
+
+            return;
+        }
+
+        sums.Clear();
+        ref var masks = ref MemoryMarshal.GetArrayDataReference(ByteMasks);
+        ref var bitsStart = ref MemoryMarshal.GetReference(bits);
+        ref var ra = ref MemoryMarshal.GetReference(a);
+        ref var rb = ref MemoryMarshal.GetReference(b);
+        ref var rc = ref MemoryMarshal.GetReference(c);
+        ref var rd = ref MemoryMarshal.GetReference(d);
+        ref var rs = ref MemoryMarshal.GetReference(sums);
+        for (var w0 = 0; w0 < wordsPerRow; w0 += BlockWords)
+        {
+            var w1 = Math.Min(w0 + BlockWords, wordsPerRow);
+            for (var k = 0; k < rows.Length; k++)
+            {
+                ref var row = ref Unsafe.Add(ref bitsStart, (nint)rows[k] * wordsPerRow);
+
+                // Two accumulators per vector: one add per vector per group would otherwise wait on the add latency.
+                Vector256<float> a0 = default, a1 = default, b0 = default, b1 = default, c0 = default, c1 = default, d0 = default, d1 = default;
+                for (var w = w0; w < w1; w++)
+                {
+                    var word = Unsafe.Add(ref row, w);
+                    if (word == 0)
+                    {
+                        continue;
+                    }
+
+                    var offset = (nuint)(w * 64);
+                    for (var g = 0; g < 8; g += 2, offset += 16, word >>= 16)
+                    {
+                        var m0 = Unsafe.Add(ref masks, (int)(word & 0xFF));
+                        var m1 = Unsafe.Add(ref masks, (int)((word >> 8) & 0xFF));
+                        a0 += Vector256.LoadUnsafe(ref ra, offset) & m0;
+                        b0 += Vector256.LoadUnsafe(ref rb, offset) & m0;
+                        c0 += Vector256.LoadUnsafe(ref rc, offset) & m0;
+                        d0 += Vector256.LoadUnsafe(ref rd, offset) & m0;
+                        a1 += Vector256.LoadUnsafe(ref ra, offset + 8) & m1;
+                        b1 += Vector256.LoadUnsafe(ref rb, offset + 8) & m1;
+                        c1 += Vector256.LoadUnsafe(ref rc, offset + 8) & m1;
+                        d1 += Vector256.LoadUnsafe(ref rd, offset + 8) & m1;
+                    }
+                }
+
+                ref var s = ref Unsafe.Add(ref rs, 4 * k);
+                s += Vector256.Sum(a0 + a1);
+                Unsafe.Add(ref s, 1) += Vector256.Sum(b0 + b1);
+                Unsafe.Add(ref s, 2) += Vector256.Sum(c0 + c1);
+                Unsafe.Add(ref s, 3) += Vector256.Sum(d0 + d1);
+            }
+        }
+    }
+
+    /// <summary>
+    /// Masked sums of one weight vector over many rows; <paramref name="sums"/>[k] is the sum over row rows[k].
+    /// When <paramref name="columns"/> is given (one word per row word), only hypotheses whose bit is set there
+    /// count: callers whose weights are zero on most hypotheses skip those words outright.
+    /// </summary>
+    [MethodImpl(MethodImplOptions.AggressiveOptimization)]
+    public static void RowSum(ReadOnlySpan<ulong> bits, int wordsPerRow, ReadOnlySpan<int> rows, ReadOnlySpan<float> a, Span<double> sums, ReadOnlySpan<ulong> columns = default)
+    {
+        CheckBatch(bits, wordsPerRow, rows, sums, 1);
+        CheckWeights(wordsPerRow, a);
+        var masked = !columns.IsEmpty;
+        if (masked)
+        {
+            ArgumentOutOfRangeException.ThrowIfLessThan(columns.Length, wordsPerRow, nameof(columns));
+        }
+
+        sums = sums[..rows.Length];
+        if (!Vector256.IsHardwareAccelerated)
+        {
+            for (var k = 0; k < rows.Length; k++)
+            {
+                ScalarRowSums(bits.Slice(rows[k] * wordsPerRow, wordsPerRow), a, a, default, default, out sums[k], out _, out _, out _, columns);
+            }
+
+            return;
+        }
+
+        sums.Clear();
+        ref var cols = ref MemoryMarshal.GetReference(columns);
+        ref var masks = ref MemoryMarshal.GetArrayDataReference(ByteMasks);
+        ref var bitsStart = ref MemoryMarshal.GetReference(bits);
+        ref var ra = ref MemoryMarshal.GetReference(a);
+        ref var rs = ref MemoryMarshal.GetReference(sums);
+
+        // One vector is a quarter of the weights per hypothesis, so blocks can be four times wider.
+        const int wideBlock = BlockWords * 4;
+        for (var w0 = 0; w0 < wordsPerRow; w0 += wideBlock)
+        {
+            var w1 = Math.Min(w0 + wideBlock, wordsPerRow);
+            for (var k = 0; k < rows.Length; k++)
+            {
+                ref var row = ref Unsafe.Add(ref bitsStart, (nint)rows[k] * wordsPerRow);
+                Vector256<float> a0 = default, a1 = default, a2 = default, a3 = default;
+                for (var w = w0; w < w1; w++)
+                {
+                    var word = masked ? Unsafe.Add(ref row, w) & Unsafe.Add(ref cols, w) : Unsafe.Add(ref row, w);
+                    if (word == 0)
+                    {
+                        continue;
+                    }
+
+                    var offset = (nuint)(w * 64);
+                    for (var g = 0; g < 8; g += 4, offset += 32, word >>= 32)
+                    {
+                        a0 += Vector256.LoadUnsafe(ref ra, offset) & Unsafe.Add(ref masks, (int)(word & 0xFF));
+                        a1 += Vector256.LoadUnsafe(ref ra, offset + 8) & Unsafe.Add(ref masks, (int)((word >> 8) & 0xFF));
+                        a2 += Vector256.LoadUnsafe(ref ra, offset + 16) & Unsafe.Add(ref masks, (int)((word >> 16) & 0xFF));
+                        a3 += Vector256.LoadUnsafe(ref ra, offset + 24) & Unsafe.Add(ref masks, (int)((word >> 24) & 0xFF));
+                    }
+                }
+
+                Unsafe.Add(ref rs, k) += Vector256.Sum((a0 + a1) + (a2 + a3));
+            }
+        }
+    }
+
+    private static void CheckBatch(ReadOnlySpan<ulong> bits, int wordsPerRow, ReadOnlySpan<int> rows, Span<double> sums, int perRow)
+    {
+        ArgumentOutOfRangeException.ThrowIfNegativeOrZero(wordsPerRow);
+        ArgumentOutOfRangeException.ThrowIfLessThan(sums.Length, rows.Length * perRow, nameof(sums));
+        var rowCount = bits.Length / wordsPerRow;
+        foreach (var r in rows)
+        {
+            if ((uint)r >= (uint)rowCount)
+            {
+                throw new ArgumentOutOfRangeException(nameof(rows), r, "Row outside the mistake matrix.");
+            }
+        }
+    }
+
+    private static void CheckWeights(int wordsPerRow, ReadOnlySpan<float> weights) =>
+        ArgumentOutOfRangeException.ThrowIfLessThan(weights.Length, wordsPerRow * 64, nameof(weights));
+
     private static void ScalarRowSums(
         ReadOnlySpan<ulong> row,
         ReadOnlySpan<float> a,
@@ -165,13 +338,14 @@ public static class MistakeKernel
         out double sumA,
         out double sumB,
         out double sumC,
-        out double sumD)
+        out double sumD,
+        ReadOnlySpan<ulong> columns = default)
     {
         double sa = 0, sb = 0, sc = 0, sd = 0;
         var four = !c.IsEmpty;
         for (var w = 0; w < row.Length; w++)
         {
-            var bits = row[w];
+            var bits = columns.IsEmpty ? row[w] : row[w] & columns[w];
             while (bits != 0)
             {
                 var h = (w * 64) + BitOperations.TrailingZeroCount(bits);

@@ -98,18 +98,39 @@ public static class ModelCompiler
         var n = itemIds.Count;
         var words = MistakeKernel.WordsPerRow(m);
         var mistakes = new ulong[n * words];
-        var predictions = labels.Count > 2 ? new byte[n * m] : null;
-        for (var h = 0; h < m; h++)
+
+        // One word (64 hypotheses) at a time over all items: each mistake word is written once, and the 64
+        // prediction vectors it reads are walked in step.
+        var block = new byte[64][];
+        for (var w = 0; w < words; w++)
         {
-            var p = pool.Predictions[h];
+            var first = w * 64;
+            var count = Math.Min(64, m - first);
+            for (var j = 0; j < count; j++)
+            {
+                block[j] = pool.Predictions[first + j];
+            }
+
             for (var i = 0; i < n; i++)
             {
-                if (p[i] != truth[i])
+                var label = truth[i];
+                var word = 0UL;
+                for (var j = 0; j < count; j++)
                 {
-                    mistakes[(i * words) + (h >> 6)] |= 1UL << (h & 63);
+                    word |= (block[j][i] != label ? 1UL : 0UL) << j;
                 }
 
-                if (predictions is not null)
+                mistakes[(i * words) + w] = word;
+            }
+        }
+
+        var predictions = labels.Count > 2 ? new byte[n * m] : null;
+        if (predictions is not null)
+        {
+            for (var h = 0; h < m; h++)
+            {
+                var p = pool.Predictions[h];
+                for (var i = 0; i < n; i++)
                 {
                     predictions[(i * m) + h] = p[i];
                 }
@@ -152,7 +173,7 @@ public static class ModelCompiler
             Q = draft.Q,
             CompileMilliseconds = stopwatch.Elapsed.TotalMilliseconds,
         };
-        return new ModelVersion(labels, itemIds, teachCount, truth, mistakes, predictions, prior, targetIndex, learner, greedy, easy, cover, summary);
+        return new ModelVersion(labels, itemIds, teachCount, truth, mistakes, predictions, prior, targetIndex, learner, greedy, easy, cover, summary, draft.ErrorArray);
     }
 
     private static readonly ModelSummary PlaceholderSummary = new()

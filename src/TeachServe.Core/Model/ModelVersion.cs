@@ -28,7 +28,8 @@ public sealed class ModelVersion
         int[] greedySequence,
         int[] easyFirstOrder,
         int[] coverSequence,
-        ModelSummary summary)
+        ModelSummary summary,
+        double[]? error = null)
     {
         Labels = labels;
         ItemIds = itemIds;
@@ -46,7 +47,7 @@ public sealed class ModelVersion
         EasyFirstOrder = easyFirstOrder;
         CoverSequence = coverSequence;
         Summary = summary;
-        _error = ComputeErrors();
+        _error = error ?? ComputeErrors();
     }
 
     public IReadOnlyList<string> Labels { get; }
@@ -75,6 +76,7 @@ public sealed class ModelVersion
     public ModelSummary Summary { get; }
 
     public ReadOnlySpan<double> Error => _error;
+    internal double[] ErrorArray => _error;
     public ReadOnlySpan<double> Prior => _prior;
     internal ReadOnlySpan<ulong> MistakeBits => _mistakes;
     internal ReadOnlySpan<byte> PredictionBytes => _predictions;

@@ -10,25 +10,96 @@ public static class TeachingOrders
     public static int[] StochasticGreedy(ModelVersion model, double q, int length, CancellationToken cancellationToken = default)
     {
         var m = model.HypothesisCount;
+        var error = model.Error;
         var learner = model.Prior.ToArray();
         var shown = new bool[model.TeachCount];
         var weights = new float[MistakeKernel.PaddedLength(m)];
         var sequence = new List<int>(length);
+
+        // Lazy evaluation (Minoux 1978): the unnormalised gain Σ_h Q(h|A)·err(h)·(1 − ℓ(h,x)) only shrinks as A
+        // grows, so a gain computed at an earlier step bounds the current one. Each step evaluates candidates in
+        // order of their bounds and stops once the best fresh gain beats every remaining bound by a margin wider
+        // than float rounding; the pick is then the one the full scan (NextGreedy) would make.
+        var bound = new double[model.TeachCount];
+        Array.Fill(bound, double.PositiveInfinity);
+        var order = new int[model.TeachCount];
         for (var step = 0; step < length; step++)
         {
             cancellationToken.ThrowIfCancellationRequested();
-            var item = NextGreedy(model, learner, shown, weights, out var gain);
-            if (item < 0 || gain <= 0)
+            var total = 0.0;
+            for (var h = 0; h < m; h++)
+            {
+                total += learner[h];
+            }
+
+            for (var h = 0; h < m; h++)
+            {
+                weights[h] = (float)(learner[h] / total * error[h]);
+            }
+
+            var best = LazyArgMax(model, weights, total, shown, bound, order, default, out var bestGain);
+            if (best < 0 || bestGain <= 0)
             {
                 break;
             }
 
-            sequence.Add(item);
-            shown[item] = true;
-            ApplyShown(model, learner, item, q);
+            sequence.Add(best);
+            shown[best] = true;
+            ApplyShown(model, learner, best, q);
         }
 
         return [.. sequence];
+    }
+
+    /// <summary>Candidates evaluated together by the lazy greedy: enough rows to reuse each block of weights.</summary>
+    private const int LazyBatch = 64;
+
+    /// <summary>Relative margin by which a fresh gain must beat a stale bound; float sums are good to about 1e-6.</summary>
+    private const double LazyMargin = 1e-4;
+
+    /// <summary>
+    /// One lazy step: the unshown item with the largest masked sum of <paramref name="weights"/> (the first of
+    /// equal ones), evaluating candidates in order of <paramref name="bound"/> — earlier sums times their
+    /// <paramref name="scale"/>, valid upper bounds because the caller's unscaled weights only shrink — and
+    /// refreshing the bounds of those it evaluates. -1 when every item has been shown.
+    /// </summary>
+    private static int LazyArgMax(ModelVersion model, ReadOnlySpan<float> weights, double scale, bool[] shown, double[] bound, int[] order, ReadOnlySpan<ulong> columns, out double bestGain)
+    {
+        var candidates = 0;
+        for (var x = 0; x < model.TeachCount; x++)
+        {
+            if (!shown[x])
+            {
+                order[candidates++] = x;
+            }
+        }
+
+        var byBound = order.AsSpan(0, candidates);
+        byBound.Sort((x, y) => bound[x] != bound[y] ? bound[y].CompareTo(bound[x]) : x.CompareTo(y));
+        Span<int> rows = stackalloc int[LazyBatch];
+        Span<double> sums = stackalloc double[LazyBatch];
+        var best = -1;
+        bestGain = double.NegativeInfinity;
+        var next = 0;
+        while (next < candidates && !(bound[byBound[next]] * (1 + LazyMargin) < bestGain * scale))
+        {
+            var count = Math.Min(LazyBatch, candidates - next);
+            byBound.Slice(next, count).CopyTo(rows);
+            next += count;
+            MistakeKernel.RowSum(model.MistakeBits, model.WordsPerRow, rows[..count], weights, sums, columns);
+            for (var k = 0; k < count; k++)
+            {
+                var x = rows[k];
+                bound[x] = sums[k] * scale;
+                if (sums[k] > bestGain || (sums[k] == bestGain && x < best))
+                {
+                    bestGain = sums[k];
+                    best = x;
+                }
+            }
+        }
+
+        return best;
     }
 
     /// <summary>
@@ -50,20 +121,42 @@ public static class TeachingOrders
             scratch[h] = (float)(learner[h] / total * error[h]);
         }
 
+        return ArgMaxRowSum(model, scratch, shown, out gain);
+    }
+
+    /// <summary>Rows evaluated per call of the many-row kernel; small enough for the stack.</summary>
+    internal const int CandidateChunk = 256;
+
+    /// <summary>
+    /// The unshown teach item with the largest masked sum of <paramref name="weights"/> (the first of equal ones),
+    /// or -1 when every item has been shown.
+    /// </summary>
+    internal static int ArgMaxRowSum(ModelVersion model, ReadOnlySpan<float> weights, ReadOnlySpan<bool> shown, out double gain, ReadOnlySpan<ulong> columns = default)
+    {
+        Span<int> rows = stackalloc int[CandidateChunk];
+        Span<double> sums = stackalloc double[CandidateChunk];
         var best = -1;
         gain = double.NegativeInfinity;
-        for (var x = 0; x < model.TeachCount; x++)
+        var x = 0;
+        while (x < model.TeachCount)
         {
-            if (shown[x])
+            var count = 0;
+            for (; x < model.TeachCount && count < CandidateChunk; x++)
             {
-                continue;
+                if (!shown[x])
+                {
+                    rows[count++] = x;
+                }
             }
 
-            var g = MistakeKernel.RowSum(model.MistakeRow(x), scratch);
-            if (g > gain)
+            MistakeKernel.RowSum(model.MistakeBits, model.WordsPerRow, rows[..count], weights, sums, columns);
+            for (var k = 0; k < count; k++)
             {
-                gain = g;
-                best = x;
+                if (sums[k] > gain)
+                {
+                    gain = sums[k];
+                    best = rows[k];
+                }
             }
         }
 
@@ -99,28 +192,23 @@ public static class TeachingOrders
             consistent[h] = (float)prior[h];
         }
 
+        // Eliminated hypotheses have weight 0; masking their columns lets the kernel skip whole words of them.
+        var alive = new ulong[model.WordsPerRow];
+        for (var h = 0; h < prior.Length; h++)
+        {
+            alive[h >> 6] |= 1UL << (h & 63);
+        }
+
+        // Eliminated mass only grows, so the same lazy evaluation as the stochastic greedy applies.
         var shown = new bool[model.TeachCount];
+        var bound = new double[model.TeachCount];
+        Array.Fill(bound, double.PositiveInfinity);
+        var order = new int[model.TeachCount];
         var sequence = new List<int>();
         while (true)
         {
-            var best = -1;
-            var bestGain = 0.0;
-            for (var x = 0; x < model.TeachCount; x++)
-            {
-                if (shown[x])
-                {
-                    continue;
-                }
-
-                var g = MistakeKernel.RowSum(model.MistakeRow(x), consistent);
-                if (g > bestGain)
-                {
-                    bestGain = g;
-                    best = x;
-                }
-            }
-
-            if (best < 0)
+            var best = LazyArgMax(model, consistent, 1.0, shown, bound, order, alive, out var bestGain);
+            if (best < 0 || !(bestGain > 0))
             {
                 break;
             }
@@ -131,6 +219,7 @@ public static class TeachingOrders
             for (var w = 0; w < row.Length; w++)
             {
                 var bits = row[w];
+                alive[w] &= ~bits;
                 while (bits != 0)
                 {
                     consistent[(w * 64) + System.Numerics.BitOperations.TrailingZeroCount(bits)] = 0f;

@@ -99,34 +99,51 @@ public sealed class TeachingPolicy
             learnerTotal += learner[h];
         }
 
+        // Normalising by a multiply: the weights are rounded to float next, far coarser than the division's rounding.
+        var inverseTotal = 1.0 / learnerTotal;
         double learnerErrorTotal = 0;
         for (var h = 0; h < learner.Length; h++)
         {
-            var p = learner[h] / learnerTotal;
+            var p = learner[h] * inverseTotal;
+            var pe = p * error[h];
             _belief[h] = (float)beta[h];
             _beliefError[h] = (float)(beta[h] * error[h]);
             _learner[h] = (float)p;
-            _learnerError[h] = (float)(p * error[h]);
-            learnerErrorTotal += p * error[h];
+            _learnerError[h] = (float)pe;
+            learnerErrorTotal += pe;
         }
 
         var oneMinusQ = 1.0 - belief.Q;
         var best = -1;
         var bestGain = double.NegativeInfinity;
-        for (var x = 0; x < _model.TeachCount; x++)
+        Span<int> rows = stackalloc int[TeachingOrders.CandidateChunk];
+        Span<double> sums = stackalloc double[TeachingOrders.CandidateChunk * 4];
+        var x = 0;
+        while (x < _model.TeachCount)
         {
-            if (shown[x])
+            var count = 0;
+            for (; x < _model.TeachCount && count < rows.Length; x++)
             {
-                continue;
+                if (!shown[x])
+                {
+                    rows[count++] = x;
+                }
             }
 
-            MistakeKernel.RowSums4(_model.MistakeRow(x), _belief, _beliefError, _learner, _learnerError, out var wrongMass, out var wrongError, out var learnerWrong, out var learnerWrongError);
-            var expectedAfter = (learnerErrorTotal - (oneMinusQ * learnerWrongError)) / (1.0 - (oneMinusQ * learnerWrong));
-            var gain = oneMinusQ * (wrongError - (wrongMass * expectedAfter) + (BlendWeight * learnerWrongError));
-            if (gain > bestGain)
+            MistakeKernel.RowSums4(_model.MistakeBits, _model.WordsPerRow, rows[..count], _belief, _beliefError, _learner, _learnerError, sums);
+            for (var k = 0; k < count; k++)
             {
-                bestGain = gain;
-                best = x;
+                var wrongMass = sums[4 * k];
+                var wrongError = sums[(4 * k) + 1];
+                var learnerWrong = sums[(4 * k) + 2];
+                var learnerWrongError = sums[(4 * k) + 3];
+                var expectedAfter = (learnerErrorTotal - (oneMinusQ * learnerWrongError)) / (1.0 - (oneMinusQ * learnerWrong));
+                var gain = oneMinusQ * (wrongError - (wrongMass * expectedAfter) + (BlendWeight * learnerWrongError));
+                if (gain > bestGain)
+                {
+                    bestGain = gain;
+                    best = rows[k];
+                }
             }
         }
 
