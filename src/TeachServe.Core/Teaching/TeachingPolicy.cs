@@ -137,7 +137,10 @@ public sealed class TeachingPolicy
                 var wrongError = sums[(4 * k) + 1];
                 var learnerWrong = sums[(4 * k) + 2];
                 var learnerWrongError = sums[(4 * k) + 3];
-                var expectedAfter = (learnerErrorTotal - (oneMinusQ * learnerWrongError)) / (1.0 - (oneMinusQ * learnerWrong));
+                // With q = 0 an item every remaining rule mislabels would leave no learner mass; the target always
+                // survives in exact arithmetic, so the guard only catches float rounding.
+                var remaining = 1.0 - (oneMinusQ * learnerWrong);
+                var expectedAfter = remaining > 1e-12 ? (learnerErrorTotal - (oneMinusQ * learnerWrongError)) / remaining : 0.0;
                 var gain = oneMinusQ * (wrongError - (wrongMass * expectedAfter) + (BlendWeight * learnerWrongError));
                 if (gain > bestGain)
                 {
