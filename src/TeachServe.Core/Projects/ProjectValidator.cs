@@ -1,0 +1,295 @@
+namespace TeachServe.Core.Projects;
+
+/// <summary>
+/// Checks that settings and items make a project that can be compiled and taught: ranges of every setting, labels,
+/// pools, ids, and what the chosen hypothesis family needs from the items. Returns every problem; never throws for bad data.
+/// </summary>
+public static class ProjectValidator
+{
+    public const int MinLabels = 2;
+    public const int MaxLabels = 20;
+
+    public static IReadOnlyList<ProjectProblem> Validate(ProjectSettings settings, IReadOnlyList<ItemDefinition> items) =>
+        Validate(settings, items, ProjectSources.Folder);
+
+    public static IReadOnlyList<ProjectProblem> Validate(ProjectSettings settings, IReadOnlyList<ItemDefinition> items, ProjectSources sources)
+    {
+        ArgumentNullException.ThrowIfNull(settings);
+        ArgumentNullException.ThrowIfNull(sources);
+        var run = new Run(sources);
+        run.Settings(settings);
+        run.Items(settings, items ?? []);
+        return run.Problems;
+    }
+
+    private sealed class Run(ProjectSources sources)
+    {
+        public List<ProjectProblem> Problems { get; } = [];
+
+        public void Settings(ProjectSettings s)
+        {
+            if (string.IsNullOrWhiteSpace(s.Name))
+                Setting("name", "the project name is empty");
+            Labels(s.Labels);
+            Family(s.Family);
+            if (!PolicyNames.All.Contains(s.Policy))
+                Setting("policy", $"unknown policy '{s.Policy}'; expected {Names(PolicyNames.All)}");
+            if (!(s.BlendWeight >= 0 && double.IsFinite(s.BlendWeight)))
+                Setting("blendWeight", $"must be a finite number ≥ 0, not {s.BlendWeight}");
+            Learner(s.Learner);
+            Gate(s.Gate);
+        }
+
+        private void Labels(IReadOnlyList<string>? labels)
+        {
+            if (labels is null)
+            {
+                Setting("labels", "the labels are missing");
+                return;
+            }
+            if (labels.Count is < MinLabels or > MaxLabels)
+                Setting("labels", $"a project needs {MinLabels} to {MaxLabels} labels, not {labels.Count}");
+            var first = new Dictionary<string, int>(StringComparer.Ordinal);
+            for (var i = 0; i < labels.Count; i++)
+            {
+                var field = FieldPath.Index("labels", i);
+                if (string.IsNullOrWhiteSpace(labels[i]))
+                    Setting(field, "the label is empty");
+                else if (!first.TryAdd(labels[i], i))
+                    Setting(field, $"'{labels[i]}' is already labels[{first[labels[i]]}]");
+            }
+        }
+
+        private void Family(FamilySettings? f)
+        {
+            if (f is null)
+            {
+                Setting("family", "the hypothesis family is missing");
+                return;
+            }
+            if (!FamilyKinds.All.Contains(f.Kind))
+                Setting("family.kind", $"unknown family kind '{f.Kind}'; expected {Names(FamilyKinds.All)}");
+            if (f.RandomDirections < 0)
+                Setting("family.randomDirections", $"must be ≥ 0, not {f.RandomDirections}");
+            if (f.PerturbedCopies < 0)
+                Setting("family.perturbedCopies", $"must be ≥ 0, not {f.PerturbedCopies}");
+            if (f.MaxCues < 1)
+                Setting("family.maxCues", $"must be ≥ 1, not {f.MaxCues}");
+            if (f.CandidateCues < 1)
+                Setting("family.candidateCues", $"must be ≥ 1, not {f.CandidateCues}");
+            if (!(f.SimplicityBias > 0 && double.IsFinite(f.SimplicityBias)))
+                Setting("family.simplicityBias", $"must be a finite number > 0, not {f.SimplicityBias}");
+        }
+
+        private void Learner(LearnerSettings? l)
+        {
+            if (l is null)
+            {
+                Setting("learner", "the learner settings are missing");
+                return;
+            }
+            if (!(l.Alpha > 0 && double.IsFinite(l.Alpha)))
+                Setting("learner.alpha", $"must be a finite number > 0, not {l.Alpha}");
+            if (!(l.Lapse >= 0 && l.Lapse <= 1))
+                Setting("learner.lapse", $"must be in [0, 1], not {l.Lapse}");
+        }
+
+        private void Gate(GateSettings? g)
+        {
+            if (g is null)
+            {
+                Setting("gate", "the gate settings are missing");
+                return;
+            }
+            if (!(g.TargetError > 0 && g.TargetError < 1))
+                Setting("gate.targetError", $"must be in (0, 1), not {g.TargetError}");
+            if (!(g.Confidence > 0 && g.Confidence < 1))
+                Setting("gate.confidence", $"must be in (0, 1), not {g.Confidence}");
+            if (g.MaxTeachingItems < 1)
+                Setting("gate.maxTeachingItems", $"must be ≥ 1, not {g.MaxTeachingItems}");
+            if (g.Retakes < 0)
+                Setting("gate.retakes", $"must be ≥ 0, not {g.Retakes}");
+
+            var t = g.Test;
+            if (t is null)
+            {
+                Setting("gate.test", "the test settings are missing");
+                return;
+            }
+            if (t.Mode is not (TestModes.Sequential or TestModes.Fixed))
+                Setting("gate.test.mode", $"unknown test mode '{t.Mode}'; expected {TestModes.Sequential} or {TestModes.Fixed}");
+            if (t.MaxItems < 1)
+                Setting("gate.test.maxItems", $"must be ≥ 1, not {t.MaxItems}");
+            if (!(t.Delta > 0))
+                Setting("gate.test.delta", $"must be > 0, not {t.Delta}");
+            else if (g.TargetError is > 0 and < 1 && !(g.TargetError + t.Delta < 1)) // a bad target is reported once, above
+                Setting("gate.test.delta", $"targetError + delta must be < 1, not {g.TargetError} + {t.Delta}");
+            if (!(t.Alpha > 0 && t.Alpha < 0.5))
+                Setting("gate.test.alpha", $"must be in (0, 0.5), not {t.Alpha}");
+            if (!(t.Beta > 0 && t.Beta < 0.5))
+                Setting("gate.test.beta", $"must be in (0, 0.5), not {t.Beta}");
+        }
+
+        public void Items(ProjectSettings s, IReadOnlyList<ItemDefinition> items)
+        {
+            var labelList = (s.Labels ?? []).Where(l => !string.IsNullOrWhiteSpace(l)).Distinct(StringComparer.Ordinal).ToList();
+            var labels = new HashSet<string>(labelList, StringComparer.Ordinal);
+            var ids = new Dictionary<string, int>(StringComparer.Ordinal);
+            int teach = 0, test = 0;
+            for (var i = 0; i < items.Count; i++)
+            {
+                var item = items[i];
+                var path = FieldPath.Item(i);
+                if (item is null)
+                {
+                    Item(i, path, "the item is null");
+                    continue;
+                }
+                if (string.IsNullOrWhiteSpace(item.Id))
+                    Item(i, FieldPath.Member(path, "id"), "the id is empty");
+                else if (!ids.TryAdd(item.Id, i))
+                    Item(i, FieldPath.Member(path, "id"), $"'{item.Id}' is already the id of items[{ids[item.Id]}]");
+
+                if (item.Pool == Pools.Teach)
+                    teach++;
+                else if (item.Pool == Pools.Test)
+                    test++;
+                else
+                    Item(i, FieldPath.Member(path, "pool"), $"unknown pool '{item.Pool}'; expected {Pools.Teach} or {Pools.Test}");
+
+                if (item.Label is null || !labels.Contains(item.Label))
+                    Item(i, FieldPath.Member(path, "label"), $"unknown label '{item.Label}'; expected {Names(labelList)}");
+
+                ItemFeatures(i, path, item);
+                ItemAttributes(i, path, item);
+                if (item.Content is not { } c || (IsBlank(c.Text) && IsBlank(c.ImageUrl) && IsBlank(c.Svg)))
+                    Item(i, FieldPath.Member(path, "content"), "needs at least one of text, imageUrl or svg");
+            }
+            if (teach == 0)
+                Whole("the teach pool is empty");
+            if (test == 0)
+                Whole("the test pool is empty");
+
+            switch (s.Family?.Kind)
+            {
+                case FamilyKinds.Linear or FamilyKinds.Stumps:
+                    SameFeatures(s.Family.Kind, items);
+                    break;
+                case FamilyKinds.Cues:
+                    if (!items.Any(item => item?.Attributes is { Count: > 0 }))
+                        Whole("the cues family needs attributes on the items, and no item has any");
+                    break;
+                case FamilyKinds.Table:
+                    Table(s.Family.Table, ids, labels);
+                    break;
+            }
+        }
+
+        private void ItemFeatures(int i, string path, ItemDefinition item)
+        {
+            if (item.Features is null)
+                return;
+            var featuresPath = FieldPath.Member(path, "features");
+            foreach (var (name, value) in item.Features)
+            {
+                if (string.IsNullOrWhiteSpace(name))
+                    Item(i, featuresPath, "a feature name is empty");
+                else if (!double.IsFinite(value))
+                    Item(i, FieldPath.Member(featuresPath, name), $"{value} is not a finite number");
+            }
+        }
+
+        private void ItemAttributes(int i, string path, ItemDefinition item)
+        {
+            if (item.Attributes is null)
+                return;
+            var seen = new HashSet<string>(StringComparer.Ordinal);
+            for (var j = 0; j < item.Attributes.Count; j++)
+            {
+                var field = FieldPath.Index(FieldPath.Member(path, "attributes"), j);
+                var name = item.Attributes[j];
+                if (string.IsNullOrWhiteSpace(name))
+                    Item(i, field, "the attribute name is empty");
+                else if (!seen.Add(name))
+                    Item(i, field, $"'{name}' is listed more than once");
+            }
+        }
+
+        /// <summary>Linear and stump hypotheses are functions of a fixed feature vector, so every item needs every feature.</summary>
+        private void SameFeatures(string kind, IReadOnlyList<ItemDefinition> items)
+        {
+            var all = new List<string>();
+            foreach (var item in items)
+            {
+                foreach (var name in item?.Features?.Keys ?? [])
+                {
+                    if (!string.IsNullOrWhiteSpace(name) && !all.Contains(name))
+                        all.Add(name);
+                }
+            }
+            if (all.Count == 0)
+            {
+                Whole($"the {kind} family needs numeric features on the items, and no item has any");
+                return;
+            }
+            for (var i = 0; i < items.Count; i++)
+            {
+                if (items[i] is not { } item)
+                    continue;
+                var missing = all.Where(name => item.Features is null || !item.Features.ContainsKey(name)).ToList();
+                if (missing.Count > 0)
+                    Item(i, FieldPath.Member(FieldPath.Item(i), "features"), $"missing {Names(missing)} (the {kind} family needs the same features on every item)");
+            }
+        }
+
+        private void Table(IReadOnlyList<TableHypothesis>? table, Dictionary<string, int> ids, HashSet<string> labels)
+        {
+            if (table is not { Count: > 0 })
+            {
+                Setting("family.table", "the table family needs at least one hypothesis");
+                return;
+            }
+            for (var h = 0; h < table.Count; h++)
+            {
+                var path = FieldPath.Index("family.table", h);
+                var hypothesis = table[h];
+                if (hypothesis is null)
+                {
+                    Setting(path, "the hypothesis is null");
+                    continue;
+                }
+                if (!(hypothesis.Prior > 0 && double.IsFinite(hypothesis.Prior)))
+                    Setting(FieldPath.Member(path, "prior"), $"must be a finite number > 0, not {hypothesis.Prior}");
+                if (hypothesis.Predictions is null)
+                {
+                    Setting(FieldPath.Member(path, "predictions"), "the predictions are missing");
+                    continue;
+                }
+                var predictionsPath = FieldPath.Member(path, "predictions");
+                foreach (var (itemId, label) in hypothesis.Predictions)
+                {
+                    var field = FieldPath.Member(predictionsPath, itemId);
+                    if (!ids.ContainsKey(itemId))
+                        Setting(field, $"unknown item '{itemId}'");
+                    if (label is null || !labels.Contains(label))
+                        Setting(field, $"unknown label '{label}'");
+                }
+            }
+        }
+
+        private void Setting(string field, string message) =>
+            Problems.Add(new ProjectProblem(sources.SettingsFile, null, field, message));
+
+        private void Item(int index, string field, string message)
+        {
+            int? line = sources.ItemLines is { } lines && index < lines.Count ? lines[index] : null;
+            Problems.Add(new ProjectProblem(sources.ItemsFile, line, field, message));
+        }
+
+        private void Whole(string message) => Problems.Add(new ProjectProblem(sources.ItemsFile, null, "items", message));
+
+        private static bool IsBlank(string? value) => string.IsNullOrWhiteSpace(value);
+
+        private static string Names(IReadOnlyList<string> names) => string.Join(", ", names);
+    }
+}

@@ -1,0 +1,34 @@
+using TeachServe.Core.Projects;
+
+namespace TeachServe.Core.Teaching;
+
+public enum SessionPhase
+{
+    Teaching,
+    Testing,
+    Released,
+    Failed,
+}
+
+/// <summary>How one session is taught and judged; experiments override parts of it per arm.</summary>
+public sealed record SessionOptions
+{
+    public string Policy { get; init; } = PolicyNames.Adaptive;
+    /// <summary>Weight of the stochastic-greedy gain in the adaptive rule (DESIGN 2.4).</summary>
+    public double BlendWeight { get; init; } = 1.0;
+    public GateSettings Gate { get; init; } = new();
+    /// <summary>The learner's alpha the teacher assumes; null = the model version's.</summary>
+    public double? Alpha { get; init; }
+    /// <summary>The lapse rate the teacher assumes; null = the model version's.</summary>
+    public double? Lapse { get; init; }
+    /// <summary>Seeds the random policy and the test-item order; the server derives it from the session id.</summary>
+    public ulong Seed { get; init; }
+
+    public static SessionOptions FromProject(ProjectSettings settings, ulong seed) => new()
+    {
+        Policy = settings.Policy,
+        BlendWeight = settings.BlendWeight,
+        Gate = settings.Gate,
+        Seed = seed,
+    };
+}

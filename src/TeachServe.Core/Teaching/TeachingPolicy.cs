@@ -1,0 +1,175 @@
+using TeachServe.Core.Learning;
+using TeachServe.Core.Model;
+using TeachServe.Core.Projects;
+
+namespace TeachServe.Core.Teaching;
+
+/// <summary>Chooses the next teaching item (DESIGN 2.4). Holds the scratch buffers so a step allocates nothing.</summary>
+public sealed class TeachingPolicy
+{
+    private readonly ModelVersion _model;
+    private readonly float[] _belief;
+    private readonly float[] _beliefError;
+    private readonly float[] _learner;
+    private readonly float[] _learnerError;
+
+    public TeachingPolicy(ModelVersion model, string policy, double blendWeight)
+    {
+        if (!PolicyNames.All.Contains(policy))
+        {
+            throw new ArgumentException($"Unknown policy '{policy}'.", nameof(policy));
+        }
+
+        ArgumentOutOfRangeException.ThrowIfNegative(blendWeight);
+        _model = model;
+        Name = policy;
+        BlendWeight = blendWeight;
+        var padded = MistakeKernel.PaddedLength(model.HypothesisCount);
+        _learner = new float[padded];
+        if (policy == PolicyNames.Adaptive)
+        {
+            _belief = new float[padded];
+            _beliefError = new float[padded];
+            _learnerError = new float[padded];
+        }
+        else
+        {
+            _belief = _beliefError = _learnerError = [];
+        }
+    }
+
+    public string Name { get; }
+    public double BlendWeight { get; }
+
+    /// <summary>The next teach item, or -1 when all have been shown.</summary>
+    /// <param name="belief">The session's belief (adaptive uses β and Q; the greedy rules use Q).</param>
+    /// <param name="shown">Teach items already shown, indexed by item.</param>
+    /// <param name="taught">How many teach items were shown, in order (prefix of the precomputed orders).</param>
+    public int ChooseNext(Belief belief, ReadOnlySpan<bool> shown, int taught, SeededRandom random)
+    {
+        if (taught >= _model.TeachCount)
+        {
+            return -1;
+        }
+
+        switch (Name)
+        {
+            case PolicyNames.Random:
+                return RandomUnshown(shown, taught, random);
+            case PolicyNames.EasyFirst:
+                return FirstUnshown(_model.EasyFirstOrder, shown);
+            case PolicyNames.Cover:
+                if (taught < _model.CoverSequence.Count && !shown[_model.CoverSequence[taught]])
+                {
+                    return _model.CoverSequence[taught];
+                }
+
+                return Greedy(belief, shown);
+            case PolicyNames.StochasticGreedy:
+                if (belief.Q == _model.Q && taught < _model.GreedySequence.Count && !shown[_model.GreedySequence[taught]])
+                {
+                    return _model.GreedySequence[taught];
+                }
+
+                return Greedy(belief, shown);
+            default:
+                return Adaptive(belief, shown);
+        }
+    }
+
+    private int Greedy(Belief belief, ReadOnlySpan<bool> shown)
+    {
+        var item = TeachingOrders.NextGreedy(_model, belief.LearnerWeights, shown, _learner, out var gain);
+        return gain > 0 ? item : FirstUnshownIndex(shown);
+    }
+
+    /// <summary>
+    /// Largest expected drop of predicted error, (1−q)·Σ_{h(x)≠y(x)} β(h)·(err(h) − E(A∪{x})), plus the blend
+    /// weight times the normalised stochastic-greedy gain (1−q)·Σ_{h(x)≠y(x)} P(h|A)·err(h). One pass of four
+    /// masked sums per candidate over the mistake bits.
+    /// </summary>
+    private int Adaptive(Belief belief, ReadOnlySpan<bool> shown)
+    {
+        var beta = belief.Weights;
+        var learner = belief.LearnerWeights;
+        var error = _model.Error;
+        double learnerTotal = 0;
+        for (var h = 0; h < learner.Length; h++)
+        {
+            learnerTotal += learner[h];
+        }
+
+        double learnerErrorTotal = 0;
+        for (var h = 0; h < learner.Length; h++)
+        {
+            var p = learner[h] / learnerTotal;
+            _belief[h] = (float)beta[h];
+            _beliefError[h] = (float)(beta[h] * error[h]);
+            _learner[h] = (float)p;
+            _learnerError[h] = (float)(p * error[h]);
+            learnerErrorTotal += p * error[h];
+        }
+
+        var oneMinusQ = 1.0 - belief.Q;
+        var best = -1;
+        var bestGain = double.NegativeInfinity;
+        for (var x = 0; x < _model.TeachCount; x++)
+        {
+            if (shown[x])
+            {
+                continue;
+            }
+
+            MistakeKernel.RowSums4(_model.MistakeRow(x), _belief, _beliefError, _learner, _learnerError, out var wrongMass, out var wrongError, out var learnerWrong, out var learnerWrongError);
+            var expectedAfter = (learnerErrorTotal - (oneMinusQ * learnerWrongError)) / (1.0 - (oneMinusQ * learnerWrong));
+            var gain = oneMinusQ * (wrongError - (wrongMass * expectedAfter) + (BlendWeight * learnerWrongError));
+            if (gain > bestGain)
+            {
+                bestGain = gain;
+                best = x;
+            }
+        }
+
+        return best;
+    }
+
+    private int RandomUnshown(ReadOnlySpan<bool> shown, int taught, SeededRandom random)
+    {
+        var pick = random.NextInt(_model.TeachCount - taught);
+        for (var x = 0; x < _model.TeachCount; x++)
+        {
+            if (!shown[x] && pick-- == 0)
+            {
+                return x;
+            }
+        }
+
+        return -1;
+    }
+
+    private static int FirstUnshown(IReadOnlyList<int> order, ReadOnlySpan<bool> shown)
+    {
+        foreach (var x in order)
+        {
+            if (!shown[x])
+            {
+                return x;
+            }
+        }
+
+        return -1;
+    }
+
+    private int FirstUnshownIndex(ReadOnlySpan<bool> shown)
+    {
+        for (var x = 0; x < _model.TeachCount; x++)
+        {
+            if (!shown[x])
+            {
+                return x;
+            }
+        }
+
+        return -1;
+    }
+}
