@@ -1,12 +1,15 @@
 using Scalar.AspNetCore;
 using TeachServe.Server.Auth;
+using TeachServe.Server.Demo;
 using TeachServe.Server.Events;
 using TeachServe.Server.Health;
 using TeachServe.Server.Infrastructure;
 using TeachServe.Server.Items;
 using TeachServe.Server.Persistence;
 using TeachServe.Server.Projects;
+using TeachServe.Server.Releases;
 using TeachServe.Server.Sessions;
+using TeachServe.Server.Versions;
 using TeachServe.Server.Webhooks;
 using TeachServe.Server.Workers;
 
@@ -40,7 +43,14 @@ builder.Services.AddSingleton(_ => new StartupBanner(Console.Out));
 builder.Services.AddHostedService<StartupTasks>();
 
 // Features.
+builder.Services.AddSingleton<ModelVersionCache>();
+builder.Services.AddSingleton<VersionCompileQueue>();
+builder.Services.AddHostedService(sp => sp.GetRequiredService<VersionCompileQueue>());
+builder.Services.AddScoped<IStartupStep>(sp => sp.GetRequiredService<VersionCompileQueue>());
+builder.Services.AddScoped<IStartupStep, DemoProject>();
 builder.Services.AddSingleton<SessionStateCache>();
+builder.Services.AddSingleton<SessionEngine>();
+builder.Services.AddScoped<AnswerWriter>();
 builder.Services.AddSingleton<OutboxSignal>();
 builder.Services.AddHttpClient(OutboxDispatcher.HttpClientName);
 builder.Services.AddSingleton<OutboxDispatcher>();
@@ -59,6 +69,9 @@ app.MapScalarApiReference().DisableRateLimiting();
 var api = app.MapGroup("/api/v1");
 api.MapProjects();
 api.MapItems();
+api.MapVersions();
+api.MapSessions();
+api.MapReleases();
 api.MapEvents();
 api.MapWorkers();
 app.MapHealth();

@@ -1,9 +1,9 @@
 namespace TeachServe.Server.Versions;
 
 /// <summary>
-/// One compiled, immutable model version of a project. <see cref="Blob"/> is the engine's serialized model;
-/// <see cref="DisplayJson"/> keeps what annotators see of each item at compile time, so later uploads
-/// cannot change a running session.
+/// One immutable model version of a project: the settings and items exactly as they were compiled
+/// (so later uploads and edits cannot change a running session), the compile summary, and a fingerprint
+/// of the compiled model. Compilation is deterministic, so any node rebuilds the same model from this row.
 /// </summary>
 public sealed class ModelVersionRecord
 {
@@ -11,10 +11,12 @@ public sealed class ModelVersionRecord
     public int Number { get; set; }
     public required string Status { get; set; }
     public required string SettingsJson { get; set; }
+    /// <summary>The compiled items as JSON Lines, in upload-id order.</summary>
+    public required string ItemsJson { get; set; }
     public int TeachCount { get; set; }
     public int TestCount { get; set; }
-    public byte[]? Blob { get; set; }
-    public string? DisplayJson { get; set; }
+    public int HypothesisCount { get; set; }
+    public int TargetIndex { get; set; }
     public string? SummaryJson { get; set; }
     public string? Error { get; set; }
     public DateTimeOffset CreatedAt { get; set; }

@@ -287,17 +287,18 @@ namespace TeachServe.Server.Persistence.Migrations.Sqlite
                     b.Property<int>("Number")
                         .HasColumnType("INTEGER");
 
-                    b.Property<byte[]>("Blob")
-                        .HasColumnType("BLOB");
-
                     b.Property<long>("CreatedAt")
                         .HasColumnType("INTEGER");
 
-                    b.Property<string>("DisplayJson")
-                        .HasColumnType("TEXT");
-
                     b.Property<string>("Error")
                         .HasMaxLength(4000)
+                        .HasColumnType("TEXT");
+
+                    b.Property<int>("HypothesisCount")
+                        .HasColumnType("INTEGER");
+
+                    b.Property<string>("ItemsJson")
+                        .IsRequired()
                         .HasColumnType("TEXT");
 
                     b.Property<long?>("ReadyAt")
@@ -314,6 +315,9 @@ namespace TeachServe.Server.Persistence.Migrations.Sqlite
 
                     b.Property<string>("SummaryJson")
                         .HasColumnType("TEXT");
+
+                    b.Property<int>("TargetIndex")
+                        .HasColumnType("INTEGER");
 
                     b.Property<int>("TeachCount")
                         .HasColumnType("INTEGER");

@@ -10,7 +10,7 @@ using TeachServe.Server.Persistence;
 namespace TeachServe.Server.Persistence.Migrations.Sqlite
 {
     [DbContext(typeof(SqliteTeachServeDb))]
-    [Migration("20261201192522_Initial")]
+    [Migration("20261201193710_Initial")]
     partial class Initial
     {
         /// <inheritdoc />
@@ -290,17 +290,18 @@ namespace TeachServe.Server.Persistence.Migrations.Sqlite
                     b.Property<int>("Number")
                         .HasColumnType("INTEGER");
 
-                    b.Property<byte[]>("Blob")
-                        .HasColumnType("BLOB");
-
                     b.Property<long>("CreatedAt")
                         .HasColumnType("INTEGER");
 
-                    b.Property<string>("DisplayJson")
-                        .HasColumnType("TEXT");
-
                     b.Property<string>("Error")
                         .HasMaxLength(4000)
+                        .HasColumnType("TEXT");
+
+                    b.Property<int>("HypothesisCount")
+                        .HasColumnType("INTEGER");
+
+                    b.Property<string>("ItemsJson")
+                        .IsRequired()
                         .HasColumnType("TEXT");
 
                     b.Property<long?>("ReadyAt")
@@ -317,6 +318,9 @@ namespace TeachServe.Server.Persistence.Migrations.Sqlite
 
                     b.Property<string>("SummaryJson")
                         .HasColumnType("TEXT");
+
+                    b.Property<int>("TargetIndex")
+                        .HasColumnType("INTEGER");
 
                     b.Property<int>("TeachCount")
                         .HasColumnType("INTEGER");
