@@ -10,7 +10,7 @@ using TeachServe.Server.Persistence;
 namespace TeachServe.Server.Persistence.Migrations.Sqlite
 {
     [DbContext(typeof(SqliteTeachServeDb))]
-    [Migration("20261201193710_Initial")]
+    [Migration("20261201194440_Initial")]
     partial class Initial
     {
         /// <inheritdoc />
