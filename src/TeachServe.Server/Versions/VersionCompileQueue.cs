@@ -12,6 +12,9 @@ public sealed class VersionCompileQueue(
 {
     private readonly Channel<(string ProjectId, int Number)> _jobs = Channel.CreateUnbounded<(string, int)>();
 
+    /// <summary>Raised after a background compile finished (ready or failed), with project id and version number.</summary>
+    public event EventHandler<int>? Compiled;
+
     public void Enqueue(string projectId, int number) => _jobs.Writer.TryWrite((projectId, number));
 
     public async Task RunAsync(TeachServeDb db, StartupBanner banner, CancellationToken ct)
@@ -30,6 +33,7 @@ public sealed class VersionCompileQueue(
                 using var scope = scopes.CreateScope();
                 var db = scope.ServiceProvider.GetRequiredService<TeachServeDb>();
                 await VersionCompiler.CompilePendingAsync(db, projectId, number, cache, time, logger, stoppingToken);
+                Compiled?.Invoke(projectId, number);
             }
         }
         catch (OperationCanceledException) when (stoppingToken.IsCancellationRequested)
