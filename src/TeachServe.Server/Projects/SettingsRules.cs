@@ -33,6 +33,7 @@ public static class SettingsRules
         Require(s.Family.RandomDirections <= 100_000, "family.randomDirections", "must be at most 100000");
         Require(s.Family.PerturbedCopies <= 10_000, "family.perturbedCopies", "must be at most 10000");
         Require(s.BlendWeight <= 1000, "blendWeight", "must be at most 1000");
+        Require(s.Learner.Alpha <= 50, "learner.alpha", "must be at most 50 (larger values mean a learner that never keeps a wrong rule)");
 
         if (document.ReleaseWebhook is { } hook)
         {

@@ -23,7 +23,7 @@ public sealed partial class OutboxDispatcher(
     private const int BatchSize = 20;
     private TaskCompletionSource _idle = new(TaskCreationOptions.RunContinuationsAsynchronously);
 
-    /// <summary>Completes when the dispatcher has nothing due and waits (for tests that then move the clock).</summary>
+    /// <summary>Completes when the dispatcher has nothing due and its timer is armed (for tests that then move the clock).</summary>
     public Task Idle => Volatile.Read(ref _idle).Task;
 
     protected override async Task ExecuteAsync(CancellationToken stoppingToken)
@@ -47,10 +47,9 @@ public sealed partial class OutboxDispatcher(
                 wait = settings.PollInterval;
             }
             if (wait <= TimeSpan.Zero) continue;
-            Volatile.Read(ref _idle).TrySetResult();
             try
             {
-                await signal.WaitAsync(wait, time, stoppingToken);
+                await signal.WaitAsync(wait, time, () => Volatile.Read(ref _idle).TrySetResult(), stoppingToken);
             }
             catch (OperationCanceledException)
             {
