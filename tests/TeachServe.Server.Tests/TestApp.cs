@@ -39,14 +39,16 @@ public sealed class TestApp : WebApplicationFactory<Program>
     protected override void ConfigureWebHost(IWebHostBuilder builder)
     {
         builder.UseEnvironment("Testing");
-        builder.ConfigureAppConfiguration(c => c.AddInMemoryCollection(new Dictionary<string, string?>
+        var config = new Dictionary<string, string?>
         {
             ["TeachServe:DataDirectory"] = DataDirectory,
             ["TeachServe:AdminKey"] = AdminKey,
             ["TeachServe:LoadDemo"] = "false",
             ["TeachServe:PrintStartupBanner"] = "true",
             ["Logging:LogLevel:Default"] = "Warning",
-        }.Concat(Settings)));
+        };
+        foreach (var (key, value) in Settings) config[key] = value;
+        builder.ConfigureAppConfiguration(c => c.AddInMemoryCollection(config));
         builder.ConfigureTestServices(s =>
         {
             s.AddSingleton<TimeProvider>(Time);
