@@ -136,16 +136,19 @@ internal static class SimulateCommand
         variant = VariantName(r.Variant),
         learners = r.Learners,
         released = r.Released,
-        releaseRate = r.ReleaseRate,
-        releasePrecision = r.ReleasePrecision,
+        releaseRate = Finite(r.ReleaseRate),
+        releasePrecision = Finite(r.ReleasePrecision),
         unqualified = r.Unqualified,
         unqualifiedReleased = r.UnqualifiedReleased,
-        meanTeachingItems = r.MeanTeachingItems,
-        meanTeachingItemsToRelease = r.MeanTeachingItemsToRelease,
-        meanTestItems = r.MeanTestItems,
-        meanFinalTrueError = r.MeanFinalTrueError,
+        meanTeachingItems = Finite(r.MeanTeachingItems),
+        meanTeachingItemsToRelease = Finite(r.MeanTeachingItemsToRelease),
+        meanTestItems = Finite(r.MeanTestItems),
+        meanFinalTrueError = Finite(r.MeanFinalTrueError),
         curve = r.Curve.Select(p => new { step = p.Step, meanTrueError = p.MeanTrueError, low = p.Low, high = p.High }),
     };
+
+    /// <summary>JSON has no NaN: an undefined figure (e.g. precision with nobody released) is written as null.</summary>
+    private static double? Finite(double value) => double.IsFinite(value) ? value : null;
 
     internal static string CurvesCsv(IReadOnlyList<SimulationResult> results)
     {

@@ -1,4 +1,3 @@
-using MathNet.Numerics;
 using MathNet.Numerics.RootFinding;
 
 namespace TeachServe.Core.Statistics;
@@ -17,7 +16,6 @@ namespace TeachServe.Core.Statistics;
 /// </remarks>
 public sealed class BernoulliSprt
 {
-    // Expm1/Log1p come from MathNet: double.ExpM1 and double.LogP1 are computed as Exp(x) − 1 and Log(1 + x).
     // Below this |h| the OC and ASN use their h → 0 limits: the exact expressions lose about 1e-16/|h| to
     // cancellation, the limits are off by O(|h|); 1e-8 balances the two.
     private const double SmallH = 1e-8;
@@ -52,7 +50,7 @@ public sealed class BernoulliSprt
         LogUpperBound = Math.Log((1 - beta) / alpha);
         LogLowerBound = Math.Log(beta / (1 - alpha));
         _logErrorRatio = Math.Log(p1 / p0);
-        _logSuccessRatio = SpecialFunctions.Log1p(-p1) - SpecialFunctions.Log1p(-p0);
+        _logSuccessRatio = Precise.LogP1(-p1) - Precise.LogP1(-p0);
     }
 
     public double P0 { get; }
@@ -146,8 +144,8 @@ public sealed class BernoulliSprt
 
         // (A^h − 1)/(A^h − B^h), rearranged so that no power exceeds 1 (A > 1 > B > 0).
         return h > 0
-            ? SpecialFunctions.Expm1(-h * lnA) / SpecialFunctions.Expm1(h * (lnB - lnA))
-            : Math.Exp(-h * lnB) * SpecialFunctions.Expm1(h * lnA) / SpecialFunctions.Expm1(h * (lnA - lnB));
+            ? Precise.ExpM1(-h * lnA) / Precise.ExpM1(h * (lnB - lnA))
+            : Math.Exp(-h * lnB) * Precise.ExpM1(h * lnA) / Precise.ExpM1(h * (lnA - lnB));
     }
 
     /// <summary>
@@ -193,7 +191,7 @@ public sealed class BernoulliSprt
         }
 
         return h > 0
-            ? Math.Exp(-h * lnA) * SpecialFunctions.Expm1(h * lnB) / SpecialFunctions.Expm1(h * (lnB - lnA))
-            : SpecialFunctions.Expm1(-h * lnB) / SpecialFunctions.Expm1(-h * (lnB - lnA));
+            ? Math.Exp(-h * lnA) * Precise.ExpM1(h * lnB) / Precise.ExpM1(h * (lnB - lnA))
+            : Precise.ExpM1(-h * lnB) / Precise.ExpM1(-h * (lnB - lnA));
     }
 }

@@ -15,7 +15,7 @@ public sealed record SessionOptions
 {
     public string Policy { get; init; } = PolicyNames.Adaptive;
     /// <summary>Weight of the stochastic-greedy gain in the adaptive rule (DESIGN 2.4).</summary>
-    public double BlendWeight { get; init; } = 1.0;
+    public double BlendWeight { get; init; } = 2.0;
     public GateSettings Gate { get; init; } = new();
     /// <summary>The learner's alpha the teacher assumes; null = the model version's.</summary>
     public double? Alpha { get; init; }

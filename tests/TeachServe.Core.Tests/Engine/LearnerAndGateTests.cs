@@ -202,3 +202,38 @@ public class LearnerAndGateTests
         Assert.Equal(run.Belief.ToArray(), replay.Belief.ToArray());
     }
 }
+
+public class ModelVersionSerializerTests
+{
+    [Theory]
+    [InlineData(2)]
+    [InlineData(3)]
+    public void Round_trip_keeps_every_table_and_the_same_sessions(int labels)
+    {
+        var model = TinyModels.Random(101, m: 150, teach: 30, test: 20, labels, alpha: 1.5, lapse: 0.05);
+        var copy = Model.ModelVersionSerializer.FromBytes(Model.ModelVersionSerializer.ToBytes(model));
+        Assert.Equal(model.ItemIds, copy.ItemIds);
+        Assert.Equal(model.Error.ToArray(), copy.Error.ToArray());
+        Assert.Equal(model.Prior.ToArray(), copy.Prior.ToArray());
+        Assert.Equal(model.GreedySequence, copy.GreedySequence);
+        Assert.Equal(model.Summary.Hypotheses, copy.Summary.Hypotheses);
+        for (var x = 0; x < model.ItemCount; x++)
+        {
+            for (var h = 0; h < model.HypothesisCount; h++)
+            {
+                Assert.Equal(model.Predict(h, x), copy.Predict(h, x));
+            }
+        }
+
+        var options = new SessionOptions { Policy = PolicyNames.Adaptive, Seed = 4 };
+        var answers = Enumerable.Range(0, 12).Select(i => i % labels).ToArray();
+        Assert.Equal(SessionRun.Replay(model, options, answers).Belief.ToArray(), SessionRun.Replay(copy, options, answers).Belief.ToArray());
+    }
+
+    [Fact]
+    public void Garbage_is_refused_with_a_clear_error()
+    {
+        var error = Assert.Throws<InvalidDataException>(() => Model.ModelVersionSerializer.FromBytes([1, 2, 3, 4, 5, 6, 7, 8]));
+        Assert.Contains("Not a TeachServe model version", error.Message);
+    }
+}
