@@ -237,6 +237,38 @@ public sealed class SessionTests
     }
 
     [Fact]
+    public async Task A_running_session_continues_unchanged_after_a_restart()
+    {
+        var dir = TestApp.NewDataDirectory();
+        var time = new Microsoft.Extensions.Time.Testing.FakeTimeProvider(new DateTimeOffset(2026, 1, 5, 9, 0, 0, TimeSpan.Zero));
+        TestApp.Keys keys;
+        string sessionId, token, before;
+        using (var app = new TestApp(dataDirectory: dir, time: time))
+        {
+            keys = await app.ReadyProjectAsync();
+            var s = await app.StartSessionAsync(keys);
+            (sessionId, token) = (s.SessionId, s.Token);
+            for (var i = 0; i < 3; i++)
+            {
+                var next = await Api.JsonAsync(await s.Annotator.GetAsync($"/api/v1/sessions/{s.SessionId}/next"), 200);
+                await Api.JsonAsync(await s.Annotator.PostAsJsonAsync($"/api/v1/sessions/{s.SessionId}/answers",
+                    new { step = next["step"]!.GetValue<int>(), itemRef = next["item"]!["ref"]!.GetValue<string>(), label = "sound" }), 200);
+            }
+            before = (await Api.JsonAsync(await s.Annotator.GetAsync($"/api/v1/sessions/{s.SessionId}/next"), 200)).ToJsonString();
+        }
+        using (var restarted = new TestApp(dataDirectory: dir, time: time))
+        {
+            var annotator = restarted.Client(token);
+            var after = await Api.JsonAsync(await annotator.GetAsync($"/api/v1/sessions/{sessionId}/next"), 200);
+            Assert.Equal(before, after.ToJsonString());
+            var (final, _) = await TestApp.RunAsync(new TestApp.StartedSession(sessionId, token, annotator), Honest);
+            Assert.Contains(final["phase"]!.GetValue<string>(), new[] { "released", "failed" });
+        }
+        Microsoft.Data.Sqlite.SqliteConnection.ClearAllPools();
+        Directory.Delete(dir, recursive: true);
+    }
+
+    [Fact]
     public async Task Running_sessions_keep_their_model_version()
     {
         using var app = new TestApp();

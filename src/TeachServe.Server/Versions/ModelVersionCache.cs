@@ -7,7 +7,7 @@ namespace TeachServe.Server.Versions;
 
 /// <summary>
 /// Per-node cache of compiled model versions. Versions are immutable, so an entry never goes stale; a miss
-/// recompiles the version's snapshot once (concurrent callers share the work) and checks the fingerprint.
+/// loads the version once (concurrent callers share the work) and checks its fingerprint.
 /// </summary>
 public sealed partial class ModelVersionCache(IServiceScopeFactory scopes, ILogger<ModelVersionCache> logger)
 {
@@ -38,15 +38,15 @@ public sealed partial class ModelVersionCache(IServiceScopeFactory scopes, ILogg
         var record = await db.ModelVersions.AsNoTracking()
             .FirstOrDefaultAsync(v => v.ProjectId == projectId && v.Number == number && v.Status == VersionStatuses.Ready)
             ?? throw ApiProblemException.NotFound($"Model version {number} is not ready.");
-        var compiled = await Task.Run(() => VersionCompiler.Build(record, CancellationToken.None));
+        var compiled = await Task.Run(() => VersionCompiler.Load(record, CancellationToken.None));
         if (compiled.Model.HypothesisCount != record.HypothesisCount || compiled.Model.TargetIndex != record.TargetIndex)
         {
             LogFingerprintMismatch(logger, projectId, number);
-            throw new InvalidOperationException($"Model version {number} of {projectId} did not rebuild identically.");
+            throw new InvalidOperationException($"Model version {number} of {projectId} did not load identically.");
         }
         return compiled;
     }
 
-    [LoggerMessage(Level = LogLevel.Critical, Message = "Model version {Number} of {ProjectId} rebuilt differently from its first compile")]
+    [LoggerMessage(Level = LogLevel.Critical, Message = "Model version {Number} of {ProjectId} loaded differently from its first compile")]
     private static partial void LogFingerprintMismatch(ILogger logger, string projectId, int number);
 }

@@ -2,8 +2,9 @@ namespace TeachServe.Server.Versions;
 
 /// <summary>
 /// One immutable model version of a project: the settings and items exactly as they were compiled
-/// (so later uploads and edits cannot change a running session), the compile summary, and a fingerprint
-/// of the compiled model. Compilation is deterministic, so any node rebuilds the same model from this row.
+/// (so later uploads and edits cannot change a running session), the engine's serialized model, the compile
+/// summary and a fingerprint. Any node loads the model from <see cref="Blob"/>; compilation is also
+/// deterministic, so a row without a blob is rebuilt from its snapshot.
 /// </summary>
 public sealed class ModelVersionRecord
 {
@@ -13,6 +14,8 @@ public sealed class ModelVersionRecord
     public required string SettingsJson { get; set; }
     /// <summary>The compiled items as JSON Lines, in upload-id order.</summary>
     public required string ItemsJson { get; set; }
+    /// <summary>The compiled model as written by <c>ModelVersionSerializer</c>.</summary>
+    public byte[]? Blob { get; set; }
     public int TeachCount { get; set; }
     public int TestCount { get; set; }
     public int HypothesisCount { get; set; }

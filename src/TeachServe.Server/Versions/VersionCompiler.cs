@@ -28,6 +28,15 @@ public static partial class VersionCompiler
         return new CompiledVersion(record.ProjectId, record.Number, settings, model, items);
     }
 
+    /// <summary>A ready version from its stored blob (fast), or rebuilt from its snapshot when it has none.</summary>
+    public static CompiledVersion Load(ModelVersionRecord record, CancellationToken ct)
+    {
+        if (record.Blob is null) return Build(record, ct);
+        var (settings, items) = ReadSnapshot(record);
+        using var blob = new MemoryStream(record.Blob, writable: false);
+        return new CompiledVersion(record.ProjectId, record.Number, settings, ModelVersionSerializer.Read(blob), items);
+    }
+
     /// <summary>First compile of a version row: fills in status, fingerprint and summary (the caller saves).</summary>
     public static CompiledVersion? CompileInto(ModelVersionRecord record, TimeProvider time, ILogger logger, CancellationToken ct)
     {
@@ -36,6 +45,11 @@ public static partial class VersionCompiler
         {
             var compiled = Build(record, ct);
             record.Status = VersionStatuses.Ready;
+            using (var blob = new MemoryStream())
+            {
+                ModelVersionSerializer.Write(compiled.Model, blob);
+                record.Blob = blob.ToArray();
+            }
             record.HypothesisCount = compiled.Model.HypothesisCount;
             record.TargetIndex = compiled.Model.TargetIndex;
             record.SummaryJson = Json.Serialize(compiled.Model.Summary);

@@ -287,6 +287,9 @@ namespace TeachServe.Server.Persistence.Migrations.Sqlite
                     b.Property<int>("Number")
                         .HasColumnType("INTEGER");
 
+                    b.Property<byte[]>("Blob")
+                        .HasColumnType("BLOB");
+
                     b.Property<long>("CreatedAt")
                         .HasColumnType("INTEGER");
 

@@ -10,7 +10,7 @@ using TeachServe.Server.Persistence;
 namespace TeachServe.Server.Persistence.Migrations.Sqlite
 {
     [DbContext(typeof(SqliteTeachServeDb))]
-    [Migration("20261201194440_Initial")]
+    [Migration("20261201201511_Initial")]
     partial class Initial
     {
         /// <inheritdoc />
@@ -289,6 +289,9 @@ namespace TeachServe.Server.Persistence.Migrations.Sqlite
 
                     b.Property<int>("Number")
                         .HasColumnType("INTEGER");
+
+                    b.Property<byte[]>("Blob")
+                        .HasColumnType("BLOB");
 
                     b.Property<long>("CreatedAt")
                         .HasColumnType("INTEGER");

@@ -120,6 +120,7 @@ namespace TeachServe.Server.Persistence.Migrations.Sqlite
                     Status = table.Column<string>(type: "TEXT", maxLength: 16, nullable: false),
                     SettingsJson = table.Column<string>(type: "TEXT", nullable: false),
                     ItemsJson = table.Column<string>(type: "TEXT", nullable: false),
+                    Blob = table.Column<byte[]>(type: "BLOB", nullable: true),
                     TeachCount = table.Column<int>(type: "INTEGER", nullable: false),
                     TestCount = table.Column<int>(type: "INTEGER", nullable: false),
                     HypothesisCount = table.Column<int>(type: "INTEGER", nullable: false),
