@@ -1,0 +1,94 @@
+using Microsoft.EntityFrameworkCore;
+using Microsoft.Extensions.Options;
+using TeachServe.Core.Projects;
+using TeachServe.Server.Infrastructure;
+using TeachServe.Server.Items;
+using TeachServe.Server.Persistence;
+using TeachServe.Server.Projects;
+using TeachServe.Server.Sessions;
+using TeachServe.Server.Versions;
+
+namespace TeachServe.Server.Demo;
+
+/// <summary>
+/// On first start, loads the <c>weld-seams</c> seed project, compiles it, starts one demo session and puts
+/// the keys and the annotator link in the start-up banner. Later starts only say that it is there.
+/// </summary>
+public sealed partial class DemoProject(
+    IOptions<TeachServeOptions> options, IConfiguration configuration, TimeProvider time,
+    ModelVersionCache versions, SessionStateCache states, ILogger<DemoProject> logger) : IStartupStep
+{
+    public const string Setting = "demo-project";
+    public const string FolderName = "weld-seams";
+    public const string DemoWorker = "demo-annotator";
+
+    public async Task RunAsync(TeachServeDb db, StartupBanner banner, CancellationToken ct)
+    {
+        var o = options.Value;
+        var baseUrl = BaseUrl(o);
+        banner.Add("API reference", $"{baseUrl}/scalar/v1  (OpenAPI: {baseUrl}/openapi/v1.json)");
+        if (!o.LoadDemo) return;
+        if (await db.ServerSettings.FirstOrDefaultAsync(s => s.Key == Setting, ct) is { } existing)
+        {
+            banner.Add("Demo project", $"{existing.Value}  (its keys were shown on first start; delete ./data to start over)");
+            return;
+        }
+        var folder = FindFolder(o);
+        if (folder is null)
+        {
+            banner.Add("Demo project", $"not loaded: no seed-projects/{FolderName} folder found (set TeachServe:DemoProjectDirectory)");
+            return;
+        }
+        if (!ProjectFolder.TryLoad(folder, out var definition, out var problems))
+        {
+            LogDemoInvalid(logger, folder, string.Join("; ", problems.Take(5)));
+            banner.Add("Demo project", $"not loaded: {folder} has {problems.Count} problem(s), see the log");
+            return;
+        }
+
+        var (project, keys) = await ProjectsApi.CreateAsync(db, time, new ProjectDocument(definition.Settings, null), ct);
+        var now = time.GetUtcNow();
+        db.Items.AddRange(definition.Items.Select(i => new Item
+        {
+            ProjectId = project.Id, ItemId = i.Id, Pool = i.Pool, Label = i.Label, Json = Json.Serialize(i), UpdatedAt = now,
+        }));
+        await db.SaveChangesAsync(ct);
+        var record = await VersionsApi.SnapshotAsync(db, project, time, ct);
+        var compiled = VersionCompiler.CompileInto(record, time, logger, ct);
+        db.ServerSettings.Add(new ServerSetting { Key = Setting, Value = project.Id });
+        await db.SaveChangesAsync(ct);
+        if (compiled is null)
+        {
+            banner.Add("Demo project", $"{project.Id}: compiling failed: {record.Error}");
+            return;
+        }
+        versions.Put(compiled);
+        var (_, session) = await SessionsApi.StartAsync(db, time, versions, states, project.Id, DemoWorker, baseUrl, ct);
+
+        banner.Add("Demo project", $"{project.Id}  ({definition.Settings.Name}, {definition.Items.Count} items, model version {record.Number})");
+        banner.Add("Owner key", $"{keys.OwnerKey}   (shown once)");
+        banner.Add("Embed key", $"{keys.EmbedKey}   (shown once)");
+        banner.Add("Demo session", session.SessionId);
+        banner.Add("Session token", session.Token);
+        banner.Add("Annotator link", session.LaunchUrl);
+    }
+
+    private string BaseUrl(TeachServeOptions o) =>
+        (o.PublicBaseUrl ?? configuration["urls"]?.Split(';')[0] ?? "http://127.0.0.1:5080").TrimEnd('/');
+
+    private static string? FindFolder(TeachServeOptions o)
+    {
+        if (o.DemoProjectDirectory is { } configured) return Directory.Exists(configured) ? configured : null;
+        var shipped = Path.Combine(AppContext.BaseDirectory, "seed-projects", FolderName);
+        if (Directory.Exists(shipped)) return shipped;
+        for (var dir = new DirectoryInfo(Directory.GetCurrentDirectory()); dir is not null; dir = dir.Parent)
+        {
+            var candidate = Path.Combine(dir.FullName, "seed-projects", FolderName);
+            if (Directory.Exists(candidate)) return candidate;
+        }
+        return null;
+    }
+
+    [LoggerMessage(Level = LogLevel.Warning, Message = "The demo project in {Folder} does not load: {Problems}")]
+    private static partial void LogDemoInvalid(ILogger logger, string folder, string problems);
+}

@@ -1,0 +1,23 @@
+namespace TeachServe.Server.Events;
+
+/// <summary>One entry of a project's append-only event log.</summary>
+public sealed class SessionEvent
+{
+    public long Id { get; set; }
+    public required string ProjectId { get; set; }
+    public string? SessionId { get; set; }
+    public string? WorkerRef { get; set; }
+    public required string Type { get; set; }
+    public int? Step { get; set; }
+    public DateTimeOffset At { get; set; }
+    public required string DataJson { get; set; }
+}
+
+public static class EventTypes
+{
+    public const string SessionStarted = "session.started";
+    public const string Answer = "answer";
+    public const string SessionReleased = "session.released";
+    public const string SessionFailed = "session.failed";
+    public const string WorkerErased = "worker.erased";
+}

@@ -1,0 +1,12 @@
+namespace TeachServe.Server.Items;
+
+/// <summary>One uploaded item of a project; <see cref="Json"/> is the full item as the owner sent it.</summary>
+public sealed class Item
+{
+    public required string ProjectId { get; set; }
+    public required string ItemId { get; set; }
+    public required string Pool { get; set; }
+    public required string Label { get; set; }
+    public required string Json { get; set; }
+    public DateTimeOffset UpdatedAt { get; set; }
+}

@@ -1,0 +1,27 @@
+using Microsoft.Net.Http.Headers;
+
+namespace TeachServe.Server.Items;
+
+public enum ItemUploadFormat
+{
+    JsonLines,
+    JsonArray,
+    Csv,
+}
+
+public static class ItemUploadFormats
+{
+    public const string JsonLinesMediaType = "application/x-ndjson";
+
+    public static ItemUploadFormat? FromContentType(string? contentType)
+    {
+        if (contentType is null || !MediaTypeHeaderValue.TryParse(contentType, out var media)) return null;
+        return media.MediaType.Value?.ToLowerInvariant() switch
+        {
+            "application/x-ndjson" or "application/jsonl" or "application/jsonlines" or "application/json-lines" => ItemUploadFormat.JsonLines,
+            "application/json" => ItemUploadFormat.JsonArray,
+            "text/csv" or "application/csv" => ItemUploadFormat.Csv,
+            _ => null,
+        };
+    }
+}

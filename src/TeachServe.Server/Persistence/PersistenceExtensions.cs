@@ -1,0 +1,45 @@
+using Microsoft.EntityFrameworkCore;
+using Microsoft.Extensions.Options;
+using TeachServe.Server.Infrastructure;
+
+namespace TeachServe.Server.Persistence;
+
+public static class PersistenceExtensions
+{
+    public const string DatabaseFileName = "teachserve.db";
+
+    /// <summary>
+    /// Registers <see cref="TeachServeDb"/> as the context of the configured provider. The choice is made
+    /// when the first context is resolved, so configuration added by hosts and tests is honoured.
+    /// </summary>
+    public static IServiceCollection AddPersistence(this IServiceCollection services)
+    {
+        services.AddDbContext<SqliteTeachServeDb>((sp, o) =>
+            o.UseSqlite(SqliteConnectionString(sp.GetRequiredService<IOptions<TeachServeOptions>>().Value)));
+        services.AddDbContext<PostgresTeachServeDb>((sp, o) =>
+            o.UseNpgsql(sp.GetRequiredService<IOptions<TeachServeOptions>>().Value.Database.ConnectionString));
+        services.AddScoped<TeachServeDb>(sp =>
+            sp.GetRequiredService<IOptions<TeachServeOptions>>().Value.Database.Provider == DatabaseProviders.Postgres
+                ? sp.GetRequiredService<PostgresTeachServeDb>()
+                : sp.GetRequiredService<SqliteTeachServeDb>());
+        return services;
+    }
+
+    public static string SqliteConnectionString(TeachServeOptions options) =>
+        options.Database.ConnectionString is { Length: > 0 } configured
+            ? configured
+            : $"Data Source={Path.Combine(Path.GetFullPath(options.DataDirectory), DatabaseFileName)};Default Timeout=30";
+
+    /// <summary>Applies migrations; SQLite additionally switches to write-ahead logging so readers never block the writer.</summary>
+    public static async Task MigrateAsync(TeachServeDb db, TeachServeOptions options, CancellationToken ct)
+    {
+        if (db.Database.IsSqlite() && options.Database.ConnectionString is not { Length: > 0 })
+            Directory.CreateDirectory(Path.GetFullPath(options.DataDirectory));
+        if (db is PostgresTeachServeDb && !db.Database.GetMigrations().Any())
+            throw new InvalidOperationException(
+                "TeachServe:Database:Provider is 'postgres', but this build has no PostgreSQL migrations yet; use 'sqlite'.");
+        await db.Database.MigrateAsync(ct);
+        if (db.Database.IsSqlite())
+            await db.Database.ExecuteSqlRawAsync("PRAGMA journal_mode=WAL;", ct);
+    }
+}

@@ -1,0 +1,31 @@
+using Microsoft.EntityFrameworkCore;
+using TeachServe.Server.Events;
+using TeachServe.Server.Items;
+using TeachServe.Server.Projects;
+using TeachServe.Server.Releases;
+using TeachServe.Server.Sessions;
+using TeachServe.Server.Versions;
+using TeachServe.Server.Webhooks;
+using TeachServe.Server.Workers;
+
+namespace TeachServe.Server.Persistence;
+
+/// <summary>
+/// The server's database. Each provider has a small subclass that owns its migrations
+/// (<see cref="SqliteTeachServeDb"/>; PostgreSQL gets its own), so the model is written once.
+/// </summary>
+public abstract class TeachServeDb(DbContextOptions options) : DbContext(options)
+{
+    public DbSet<Project> Projects => Set<Project>();
+    public DbSet<Item> Items => Set<Item>();
+    public DbSet<ModelVersionRecord> ModelVersions => Set<ModelVersionRecord>();
+    public DbSet<Session> Sessions => Set<Session>();
+    public DbSet<SessionEvent> Events => Set<SessionEvent>();
+    public DbSet<Release> Releases => Set<Release>();
+    public DbSet<OutboxMessage> Outbox => Set<OutboxMessage>();
+    public DbSet<AuditEntry> Audit => Set<AuditEntry>();
+    public DbSet<ServerSetting> ServerSettings => Set<ServerSetting>();
+
+    protected override void OnModelCreating(ModelBuilder modelBuilder) =>
+        modelBuilder.ApplyConfigurationsFromAssembly(typeof(TeachServeDb).Assembly);
+}

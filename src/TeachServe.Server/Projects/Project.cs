@@ -1,0 +1,16 @@
+namespace TeachServe.Server.Projects;
+
+/// <summary>A project row: its settings document and the hashes of its two keys.</summary>
+public sealed class Project
+{
+    public required string Id { get; set; }
+    public required string Name { get; set; }
+    /// <summary>The <c>project.json</c> settings (without the webhook), as stored JSON.</summary>
+    public required string SettingsJson { get; set; }
+    public required byte[] OwnerKeyHash { get; set; }
+    public required byte[] EmbedKeyHash { get; set; }
+    public string? WebhookUrl { get; set; }
+    public string? WebhookSecret { get; set; }
+    public DateTimeOffset CreatedAt { get; set; }
+    public DateTimeOffset UpdatedAt { get; set; }
+}

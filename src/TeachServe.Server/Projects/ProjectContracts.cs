@@ -1,0 +1,28 @@
+using TeachServe.Core.Projects;
+
+namespace TeachServe.Server.Projects;
+
+/// <summary>Answer to project creation: the only time the two keys are shown.</summary>
+public sealed record ProjectCreated(string ProjectId, string Name, string OwnerKey, string EmbedKey);
+
+public sealed record ProjectView(
+    string ProjectId,
+    string Name,
+    ProjectSettings Settings,
+    WebhookView? ReleaseWebhook,
+    ItemCounts Items,
+    int? LatestReadyVersion,
+    DateTimeOffset CreatedAt,
+    DateTimeOffset UpdatedAt);
+
+/// <summary>The webhook as shown back: the secret is write-only.</summary>
+public sealed record WebhookView(string Url, bool SecretSet);
+
+public sealed record ItemCounts(int Teach, int Test);
+
+/// <summary>Where and how release decisions are pushed to the platform.</summary>
+public sealed record ReleaseWebhookSettings
+{
+    public required string Url { get; init; }
+    public required string Secret { get; init; }
+}

@@ -1,0 +1,67 @@
+using System.Text.Json;
+using System.Text.Json.Nodes;
+using TeachServe.Core.Projects;
+using TeachServe.Server.Infrastructure;
+
+namespace TeachServe.Server.Projects;
+
+/// <summary>
+/// The body of <c>POST /projects</c> and the target of a merge patch: a <c>project.json</c> document plus
+/// the server-only <c>releaseWebhook</c> setting.
+/// </summary>
+public sealed record ProjectDocument(ProjectSettings Settings, ReleaseWebhookSettings? ReleaseWebhook)
+{
+    public const string WebhookProperty = "releaseWebhook";
+
+    public static ProjectDocument Parse(JsonNode? node)
+    {
+        if (node is not JsonObject obj)
+            throw ApiProblemException.BadRequest("The body must be a JSON object shaped like project.json.");
+        obj = (JsonObject)obj.DeepClone();
+        ReleaseWebhookSettings? webhook = null;
+        if (obj.Remove(WebhookProperty, out var hook) && hook is not null)
+            webhook = Read<ReleaseWebhookSettings>(hook, WebhookProperty);
+        var settings = Read<ProjectSettings>(obj, "settings");
+        var document = new ProjectDocument(settings, webhook);
+        var errors = SettingsRules.Check(document);
+        if (errors.Count > 0)
+            throw ApiProblemException.Unprocessable("The project settings are not valid.").With("errors", errors);
+        return document;
+    }
+
+    public JsonObject ToJson(bool includeSecret)
+    {
+        var obj = JsonSerializer.SerializeToNode(Settings, Json.Options)!.AsObject();
+        if (ReleaseWebhook is { } hook)
+            obj[WebhookProperty] = includeSecret
+                ? JsonSerializer.SerializeToNode(hook, Json.Options)
+                : new JsonObject { ["url"] = hook.Url };
+        return obj;
+    }
+
+    /// <summary>RFC 7386 JSON merge patch: objects merge recursively, null removes, anything else replaces.</summary>
+    public static JsonNode? MergePatch(JsonNode? target, JsonNode? patch)
+    {
+        if (patch is not JsonObject patchObject) return patch?.DeepClone();
+        var result = target is JsonObject t ? (JsonObject)t.DeepClone() : new JsonObject();
+        foreach (var (name, value) in patchObject)
+        {
+            if (value is null) result.Remove(name);
+            else result[name] = MergePatch(result[name], value);
+        }
+        return result;
+    }
+
+    private static T Read<T>(JsonNode node, string what)
+    {
+        try
+        {
+            return node.Deserialize<T>(Json.Options)
+                ?? throw ApiProblemException.BadRequest($"'{what}' must not be null.");
+        }
+        catch (JsonException e)
+        {
+            throw ApiProblemException.BadRequest($"The {what} do not match the project.json shape: {e.Message}");
+        }
+    }
+}

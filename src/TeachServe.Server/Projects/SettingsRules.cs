@@ -1,0 +1,48 @@
+using TeachServe.Core.Projects;
+
+namespace TeachServe.Server.Projects;
+
+/// <summary>One problem with a request document: where it is and why it is refused.</summary>
+public sealed record FieldProblem(string Field, string Reason, int? Line = null);
+
+/// <summary>
+/// Settings checks: the engine's <see cref="ProjectValidator"/> (ranges, names, family) plus the bounds a shared
+/// server needs (lengths) and the server-only webhook setting.
+/// </summary>
+public static class SettingsRules
+{
+    private const string SettingsSource = "project";
+
+    public static List<FieldProblem> Check(ProjectDocument document)
+    {
+        var s = document.Settings;
+        var errors = ProjectValidator.Validate(s, [], new ProjectSources(SettingsSource, "items"))
+            .Where(p => p.File == SettingsSource)
+            .Select(p => new FieldProblem(p.Field ?? "settings", p.Message))
+            .ToList();
+        void Require(bool ok, string field, string reason)
+        {
+            if (!ok) errors.Add(new FieldProblem(field, reason));
+        }
+
+        Require(s.Name.Length <= ProjectLimits.NameLength, "name", $"must be at most {ProjectLimits.NameLength} characters");
+        Require(s.Labels.All(l => l.Length <= ProjectLimits.LabelLength), "labels", $"each label has at most {ProjectLimits.LabelLength} characters");
+        Require(s.Gate.MaxTeachingItems <= 10_000, "gate.maxTeachingItems", "must be at most 10000");
+        Require(s.Gate.Test.MaxItems <= 10_000, "gate.test.maxItems", "must be at most 10000");
+        Require(s.Gate.Retakes <= 100, "gate.retakes", "must be at most 100");
+        Require(s.Family.RandomDirections <= 100_000, "family.randomDirections", "must be at most 100000");
+        Require(s.Family.PerturbedCopies <= 10_000, "family.perturbedCopies", "must be at most 10000");
+        Require(s.BlendWeight <= 1000, "blendWeight", "must be at most 1000");
+        Require(s.Learner.Alpha <= 50, "learner.alpha", "must be at most 50 (larger values mean a learner that never keeps a wrong rule)");
+
+        if (document.ReleaseWebhook is { } hook)
+        {
+            Require(hook.Url.Length <= ProjectLimits.UrlLength
+                    && Uri.TryCreate(hook.Url, UriKind.Absolute, out var uri) && uri.Scheme is "http" or "https",
+                "releaseWebhook.url", "must be an absolute http or https URL");
+            Require(hook.Secret.Length is >= ProjectLimits.MinSecretLength and <= ProjectLimits.SecretLength,
+                "releaseWebhook.secret", $"must be {ProjectLimits.MinSecretLength} to {ProjectLimits.SecretLength} characters");
+        }
+        return errors;
+    }
+}

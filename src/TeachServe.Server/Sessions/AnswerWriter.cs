@@ -1,0 +1,179 @@
+using System.Text.Json;
+using Microsoft.EntityFrameworkCore;
+using TeachServe.Core.Teaching;
+using TeachServe.Server.Events;
+using TeachServe.Server.Infrastructure;
+using TeachServe.Server.Persistence;
+using TeachServe.Server.Releases;
+using TeachServe.Server.Versions;
+using TeachServe.Server.Webhooks;
+
+namespace TeachServe.Server.Sessions;
+
+/// <summary>
+/// The one write path of an answer. Under the session's lock: check the step, advance the engine, then in one
+/// transaction update the session row (only if its step is still the one we read: optimistic concurrency),
+/// append the answer event holding the exact response, and on the gate's decision the end event, the release
+/// and the webhook outbox row. The response is sent only after the commit, so an acknowledged answer is
+/// never lost, and a retry of the same step is answered from the stored event.
+/// Kept as one service so it can later become a single writer that commits many sessions' answers together.
+/// </summary>
+public sealed partial class AnswerWriter(
+    TeachServeDb db, SessionEngine engine, SessionStateCache states, OutboxSignal outbox, TimeProvider time,
+    ILogger<AnswerWriter> logger)
+{
+    public async Task<AnswerResult> WriteAsync(string sessionId, AnswerRequest request, CancellationToken ct)
+    {
+        if (request.Step < 0) throw ApiProblemException.BadRequest("'step' must be 0 or more.");
+        using var held = await states.LockAsync(sessionId, ct);
+        var session = await db.Sessions.AsNoTracking().FirstOrDefaultAsync(s => s.Id == sessionId, ct)
+            ?? throw ApiProblemException.NotFound("No such session.");
+
+        if (request.Step < session.Step) return await ReplayedAsync(session, request, ct);
+        if (request.Step > session.Step || !session.IsActive)
+            throw StepConflict(session, session.IsActive
+                ? $"Step {request.Step} is not the current step; answer step {session.Step}."
+                : $"The session has ended ({session.Phase}).");
+
+        var (version, run) = await engine.LoadAsync(db, session, ct);
+        var item = run.CurrentItem;
+        if (!ItemRefs.Matches(session.RefKey, session.Step, item, request.ItemRef))
+            throw StepConflict(session, "The itemRef is not the item of this step; ask for the next item again.");
+        if (!version.LabelIndex.TryGetValue(request.Label, out var labelIndex))
+            throw ApiProblemException.Unprocessable($"'{Clip(request.Label)}' is not one of the labels: {string.Join(", ", version.Model.Labels)}.");
+
+        // From here the cached run is ahead of the database until the commit; drop it on any failure.
+        states.Evict(sessionId);
+        var phaseBefore = run.Phase;
+        var outcome = run.Answer(labelIndex);
+        var result = Result(version, run, outcome, item);
+        var now = time.GetUtcNow();
+        var ended = run.IsEnded;
+        var evidence = ended ? SessionEngine.Evidence(version, run) : null;
+        var evidenceJson = evidence is null ? null : SessionEngine.EvidenceJson(evidence);
+        var phase = SessionEngine.PhaseName(run.Phase);
+
+        await using (var tx = await db.Database.BeginTransactionAsync(ct))
+        {
+            var updated = await db.Sessions
+                .Where(s => s.Id == sessionId && s.Step == session.Step)
+                .ExecuteUpdateAsync(u => u
+                    .SetProperty(s => s.Step, run.Step)
+                    .SetProperty(s => s.Phase, phase)
+                    .SetProperty(s => s.IsActive, !ended)
+                    .SetProperty(s => s.PredictedError, outcome.WasTeaching || ended ? run.PredictedError : session.PredictedError)
+                    .SetProperty(s => s.TaughtCount, run.TaughtCount)
+                    .SetProperty(s => s.TestAnswered, run.TestAnswered)
+                    .SetProperty(s => s.LastSeenAt, now)
+                    .SetProperty(s => s.EndedAt, ended ? now : null)
+                    .SetProperty(s => s.EvidenceJson, evidenceJson), ct);
+            if (updated == 0)
+            {
+                // Another node answered this step first; its stored response decides.
+                await tx.RollbackAsync(ct);
+                return await ReplayedAsync(session, request, ct);
+            }
+
+            db.Events.Add(new SessionEvent
+            {
+                ProjectId = session.ProjectId, SessionId = sessionId, WorkerRef = session.WorkerRef,
+                Type = EventTypes.Answer, Step = session.Step, At = now,
+                DataJson = Json.Serialize(new AnswerEventData(
+                    item, version.Model.ItemIds[item], request.ItemRef, request.Label, labelIndex,
+                    outcome.Correct, SessionEngine.PhaseName(phaseBefore), result)),
+            });
+            if (ended) await RecordEndAsync(session, version, phase, evidence!, evidenceJson!, run.Step, now, ct);
+            await db.SaveChangesAsync(ct);
+            await tx.CommitAsync(ct);
+        }
+
+        states.Put(sessionId, run);
+        if (ended)
+        {
+            outbox.Notify();
+            LogEnded(logger, sessionId, phase, run.Step);
+        }
+        return result;
+    }
+
+    private async Task RecordEndAsync(
+        Session session, CompiledVersion version, string phase, EvidenceView evidence, string evidenceJson,
+        int step, DateTimeOffset now, CancellationToken ct)
+    {
+        var type = phase == Phases.Released ? EventTypes.SessionReleased : EventTypes.SessionFailed;
+        db.Events.Add(new SessionEvent
+        {
+            ProjectId = session.ProjectId, SessionId = session.Id, WorkerRef = session.WorkerRef,
+            Type = type, Step = step, At = now, DataJson = evidenceJson,
+        });
+        if (phase == Phases.Released)
+        {
+            db.Releases.Add(new Release
+            {
+                ProjectId = session.ProjectId, SessionId = session.Id, WorkerRef = session.WorkerRef,
+                ModelVersion = version.Number, ReleasedAt = now, EvidenceJson = evidenceJson,
+            });
+        }
+        var project = await db.Projects.AsNoTracking().FirstAsync(p => p.Id == session.ProjectId, ct);
+        Outbox.Enqueue(db, project, session.Id, session.WorkerRef, new SessionEndedWebhook(
+            type, session.ProjectId, session.Id, session.WorkerRef, phase, version.Number, evidence, now));
+    }
+
+    /// <summary>A step already answered: the same body gets the stored response, a different one 409.</summary>
+    private async Task<AnswerResult> ReplayedAsync(Session session, AnswerRequest request, CancellationToken ct)
+    {
+        var stored = await db.Events.AsNoTracking()
+            .Where(e => e.SessionId == session.Id && e.Type == EventTypes.Answer && e.Step == request.Step)
+            .Select(e => e.DataJson).FirstOrDefaultAsync(ct);
+        var data = stored is null ? null : JsonSerializer.Deserialize<AnswerEventData>(stored, Json.Options);
+        if (data is null)
+            throw StepConflict(session, $"Step {request.Step} is not the current step.");
+        if (data.ItemRef != request.ItemRef || data.Label != request.Label)
+        {
+            var current = await db.Sessions.AsNoTracking().Where(s => s.Id == session.Id).Select(s => s.Step).FirstOrDefaultAsync(ct);
+            throw ApiProblemException.Conflict($"Step {request.Step} was already answered differently; answers cannot be changed.")
+                .With("currentStep", current);
+        }
+        return data.Response;
+    }
+
+    private static AnswerResult Result(CompiledVersion version, SessionRun run, AnswerOutcome outcome, int item)
+    {
+        var phase = SessionEngine.PhaseName(run.Phase);
+        var evidence = run.IsEnded ? SessionEngine.Evidence(version, run) : null;
+        if (outcome.WasTeaching)
+        {
+            return new AnswerResult
+            {
+                Correct = outcome.Correct,
+                Label = version.Model.Labels[outcome.TrueLabel],
+                Explanation = version.Explanations[item],
+                PredictedError = outcome.PredictedError,
+                Phase = phase,
+                Step = run.Step,
+                Evidence = evidence,
+            };
+        }
+        // Test answers get no truth, no score and no belief figure, only that they were recorded.
+        return new AnswerResult
+        {
+            Recorded = true,
+            Retake = run.Phase == SessionPhase.Teaching ? true : null,
+            Phase = phase,
+            Step = run.Step,
+            Evidence = evidence,
+        };
+    }
+
+    private static ApiProblemException StepConflict(Session session, string detail) =>
+        ApiProblemException.Conflict(detail).With("currentStep", session.Step).With("phase", session.Phase);
+
+    private static string Clip(string s) => s.Length <= 40 ? s : s[..40] + "…";
+
+    [LoggerMessage(Level = LogLevel.Information, Message = "Session {SessionId} ended {Phase} after {Steps} answers")]
+    private static partial void LogEnded(ILogger logger, string sessionId, string phase, int steps);
+}
+
+/// <summary>The data of an answer event: enough to replay the session and to repeat the exact response.</summary>
+public sealed record AnswerEventData(
+    int Item, string ItemId, string ItemRef, string Label, int LabelIndex, bool Correct, string Phase, AnswerResult Response);

@@ -1,0 +1,79 @@
+using TeachServe.Core.Projects;
+
+namespace TeachServe.Server.Sessions;
+
+public sealed record StartSessionRequest
+{
+    /// <summary>The platform's identifier of the annotator; opaque to TeachServe.</summary>
+    public required string WorkerRef { get; init; }
+}
+
+/// <summary>The token is shown here only; starting again for an active worker returns the session with a fresh token.</summary>
+public sealed record SessionStarted(string SessionId, string Token, string LaunchUrl, string Phase, int Step, int ModelVersion);
+
+public sealed record NextItem(int Step, string Phase, ItemForAnnotator? Item);
+
+/// <summary>What the annotator sees: an opaque per-session ref, the display content, and the label choices.</summary>
+public sealed record ItemForAnnotator(string Ref, ItemContent Content, IReadOnlyList<string> Labels);
+
+public sealed record AnswerRequest
+{
+    public required int Step { get; init; }
+    public required string ItemRef { get; init; }
+    public required string Label { get; init; }
+}
+
+/// <summary>
+/// One shape for all answers; absent members are left out. Teaching: correct, label (the true one),
+/// explanation, predictedError. Testing: recorded only. Ended: evidence.
+/// </summary>
+public sealed record AnswerResult
+{
+    public bool? Correct { get; init; }
+    public string? Label { get; init; }
+    public string? Explanation { get; init; }
+    public double? PredictedError { get; init; }
+    public bool? Recorded { get; init; }
+    /// <summary>The test did not pass and a retake returns the session to teaching.</summary>
+    public bool? Retake { get; init; }
+    public required string Phase { get; init; }
+    /// <summary>The step to answer next.</summary>
+    public required int Step { get; init; }
+    public EvidenceView? Evidence { get; init; }
+}
+
+public sealed record IntervalView(double Low, double High);
+
+/// <summary>What a release (or failure) is based on (DESIGN 2.5 point 4).</summary>
+public sealed record EvidenceView(
+    string Phase,
+    int ItemsTaught,
+    IReadOnlyList<string> TaughtItemIds,
+    int TestAnswered,
+    int TestErrors,
+    double? TestError,
+    IntervalView? TestErrorInterval,
+    double PredictedError,
+    double Confidence,
+    int RetakesUsed,
+    int ModelVersion,
+    string Policy);
+
+public sealed record SessionView
+{
+    public required string SessionId { get; init; }
+    public required string WorkerRef { get; init; }
+    public required string Phase { get; init; }
+    public required int Step { get; init; }
+    public required int ItemsTaught { get; init; }
+    public required int TestAnswered { get; init; }
+    /// <summary>Hidden from the annotator while testing: its movement would hint at whether test answers were right.</summary>
+    public double? PredictedError { get; init; }
+    public required int ModelVersion { get; init; }
+    public required string Policy { get; init; }
+    public required DateTimeOffset CreatedAt { get; init; }
+    public DateTimeOffset? EndedAt { get; init; }
+    public EvidenceView? Evidence { get; init; }
+}
+
+public sealed record SessionPage(IReadOnlyList<SessionView> Sessions, string? Next);

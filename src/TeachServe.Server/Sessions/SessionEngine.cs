@@ -1,0 +1,72 @@
+using System.Text.Json;
+using Microsoft.EntityFrameworkCore;
+using TeachServe.Core.Teaching;
+using SessionOptions = TeachServe.Core.Teaching.SessionOptions;
+using TeachServe.Server.Events;
+using TeachServe.Server.Infrastructure;
+using TeachServe.Server.Persistence;
+using TeachServe.Server.Versions;
+
+namespace TeachServe.Server.Sessions;
+
+/// <summary>Gets a session's engine state: from the per-node cache, or by replaying its answer events on its model version.</summary>
+public sealed class SessionEngine(ModelVersionCache versions, SessionStateCache states)
+{
+    public static SessionOptions Options(CompiledVersion version, Session session) =>
+        SessionOptions.FromProject(version.Settings, unchecked((ulong)session.Seed));
+
+    /// <summary>Call with the session's lock held.</summary>
+    public async Task<(CompiledVersion Version, SessionRun Run)> LoadAsync(TeachServeDb db, Session session, CancellationToken ct)
+    {
+        var version = await versions.GetAsync(session.ProjectId, session.ModelVersion, ct);
+        if (states.TryGet(session.Id, session.Step, out var run)) return (version, run);
+        run = await ReplayAsync(db, version, session, ct);
+        states.Put(session.Id, run);
+        return (version, run);
+    }
+
+    /// <summary>Rebuilds the state from the event log alone (DESIGN 3: the log is the source of truth).</summary>
+    public static async Task<SessionRun> ReplayAsync(TeachServeDb db, CompiledVersion version, Session session, CancellationToken ct)
+    {
+        var data = await db.Events.AsNoTracking()
+            .Where(e => e.SessionId == session.Id && e.Type == EventTypes.Answer)
+            .OrderBy(e => e.Step).Select(e => e.DataJson).ToListAsync(ct);
+        var labels = data.Select(d => JsonDocument.Parse(d).RootElement.GetProperty("labelIndex").GetInt32());
+        var run = SessionRun.Replay(version.Model, Options(version, session), labels);
+        if (run.Step != session.Step)
+            throw new InvalidOperationException($"Session {session.Id} has {run.Step} answer events but is at step {session.Step}.");
+        return run;
+    }
+
+    public static string PhaseName(SessionPhase phase) => phase switch
+    {
+        SessionPhase.Teaching => Phases.Teaching,
+        SessionPhase.Testing => Phases.Testing,
+        SessionPhase.Released => Phases.Released,
+        _ => Phases.Failed,
+    };
+
+    public static EvidenceView Evidence(CompiledVersion version, SessionRun run)
+    {
+        var e = run.Evidence();
+        return new EvidenceView(
+            PhaseName(e.Phase),
+            e.TaughtItems.Count,
+            e.TaughtItems.Select(i => version.Model.ItemIds[i]).ToList(),
+            e.TestAnswered,
+            e.TestErrors,
+            Finite(e.TestErrorRate),
+            double.IsFinite(e.TestErrorInterval.Low) && double.IsFinite(e.TestErrorInterval.High)
+                ? new IntervalView(e.TestErrorInterval.Low, e.TestErrorInterval.High)
+                : null,
+            e.PredictedError,
+            e.Confidence,
+            e.RetakesUsed,
+            version.Number,
+            e.Policy);
+    }
+
+    private static double? Finite(double x) => double.IsFinite(x) ? x : null;
+
+    public static string EvidenceJson(EvidenceView evidence) => Json.Serialize(evidence);
+}

@@ -1,0 +1,166 @@
+using Microsoft.AspNetCore.Http.HttpResults;
+using Microsoft.EntityFrameworkCore;
+using Microsoft.Extensions.Options;
+using TeachServe.Core.Teaching;
+using TeachServe.Server.Auth;
+using TeachServe.Server.Events;
+using TeachServe.Server.Infrastructure;
+using TeachServe.Server.Persistence;
+using TeachServe.Server.Versions;
+
+namespace TeachServe.Server.Sessions;
+
+public static class SessionsApi
+{
+    public static RouteGroupBuilder MapSessions(this IEndpointRouteBuilder api)
+    {
+        var project = api.MapGroup("/projects/{projectId}/sessions").WithTags("Sessions");
+        project.MapPost("/", StartSession).RequireKey(KeyRole.Embed, KeyRole.Owner)
+            .WithSummary("Start (or resume) the onboarding session of a worker on the newest ready model version.");
+        project.MapGet("/", ListSessions).RequireKey(KeyRole.Owner)
+            .WithSummary("Sessions of the project, oldest first, optionally of one phase; cursor-paged.");
+
+        var session = api.MapGroup("/sessions/{sessionId}").WithTags("Sessions");
+        session.MapGet("/next", GetNext).RequireKey(KeyRole.Session)
+            .WithSummary("The item to answer now; asking again before answering returns the same item.");
+        session.MapPost("/answers", PostAnswer).RequireKey(KeyRole.Session)
+            .WithSummary("Answer the current step; retry-safe (the same step and body get the same response).");
+        session.MapGet("/", GetSession).RequireKey(KeyRole.Session, KeyRole.Owner)
+            .WithSummary("Phase, counts and predicted error; after the end, the evidence.");
+        return session;
+    }
+
+    public static async Task<Results<Created<SessionStarted>, Ok<SessionStarted>, ProblemHttpResult>> StartSession(
+        string projectId, StartSessionRequest body, HttpRequest http, TeachServeDb db, TimeProvider time,
+        ModelVersionCache versions, SessionStateCache states, IOptions<TeachServeOptions> options, CancellationToken ct)
+    {
+        var workerRef = body.WorkerRef;
+        if (workerRef.Length is 0 or > SessionLimits.WorkerRefLength || workerRef.Any(char.IsControl))
+            return Problems.Unprocessable($"'workerRef' must be 1 to {SessionLimits.WorkerRefLength} printable characters.");
+        if (!await db.Projects.AnyAsync(p => p.Id == projectId, ct)) return Problems.NotFound("No such project.");
+
+        var baseUrl = options.Value.PublicBaseUrl?.TrimEnd('/') ?? $"{http.Scheme}://{http.Host}";
+        var (created, started) = await StartAsync(db, time, versions, states, projectId, workerRef, baseUrl, ct);
+        return created ? TypedResults.Created($"/api/v1/sessions/{started.SessionId}", started) : TypedResults.Ok(started);
+    }
+
+    /// <summary>Starts a session for the worker, or returns its active one (created = false).</summary>
+    public static async Task<(bool Created, SessionStarted Session)> StartAsync(
+        TeachServeDb db, TimeProvider time, ModelVersionCache versions, SessionStateCache states,
+        string projectId, string workerRef, string baseUrl, CancellationToken ct)
+    {
+        if (await ResumeAsync(db, projectId, workerRef, baseUrl, ct) is { } resumed) return (false, resumed);
+
+        var number = await db.ModelVersions
+            .Where(v => v.ProjectId == projectId && v.Status == VersionStatuses.Ready)
+            .MaxAsync(v => (int?)v.Number, ct)
+            ?? throw ApiProblemException.Conflict("The project has no ready model version yet; the owner compiles one with POST /versions.");
+        var version = await versions.GetAsync(projectId, number, ct);
+
+        var now = time.GetUtcNow();
+        var id = Ids.NewSessionId(time);
+        var token = ApiKeys.NewSessionToken(id);
+        var seed = BitConverter.ToInt64(System.Security.Cryptography.RandomNumberGenerator.GetBytes(8));
+        var session = new Session
+        {
+            Id = id, ProjectId = projectId, WorkerRef = workerRef, IsActive = true, Phase = Phases.Teaching,
+            Step = 0, ModelVersion = version.Number, Policy = version.Settings.Policy, Seed = seed,
+            TokenHash = ApiKeys.Hash(token), RefKey = ItemRefs.NewKey(), CreatedAt = now, LastSeenAt = now,
+        };
+        var run = SessionRun.Start(version.Model, SessionEngine.Options(version, session));
+        session.Phase = SessionEngine.PhaseName(run.Phase);
+        session.PredictedError = run.PredictedError;
+        db.Sessions.Add(session);
+        db.Events.Add(new SessionEvent
+        {
+            ProjectId = projectId, SessionId = id, WorkerRef = workerRef, Type = EventTypes.SessionStarted, At = now,
+            DataJson = Json.Serialize(new { modelVersion = version.Number, policy = session.Policy, seed }),
+        });
+        try
+        {
+            await db.SaveChangesAsync(ct);
+        }
+        catch (DbUpdateException)
+        {
+            // A concurrent start for the same worker won (unique active index); hand out that session.
+            db.ChangeTracker.Clear();
+            if (await ResumeAsync(db, projectId, workerRef, baseUrl, ct) is { } raced) return (false, raced);
+            throw;
+        }
+        states.Put(id, run);
+        return (true, new SessionStarted(id, token, LaunchUrl(baseUrl, id, token), session.Phase, 0, version.Number));
+    }
+
+    /// <summary>The worker's active session with a fresh token (tokens are stored hashed, so the old one cannot be shown again).</summary>
+    private static async Task<SessionStarted?> ResumeAsync(TeachServeDb db, string projectId, string workerRef, string baseUrl, CancellationToken ct)
+    {
+        var active = await db.Sessions.FirstOrDefaultAsync(s => s.ProjectId == projectId && s.WorkerRef == workerRef && s.IsActive, ct);
+        if (active is null) return null;
+        var token = ApiKeys.NewSessionToken(active.Id);
+        var hash = ApiKeys.Hash(token);
+        await db.Sessions.Where(s => s.Id == active.Id).ExecuteUpdateAsync(u => u.SetProperty(s => s.TokenHash, hash), ct);
+        return new SessionStarted(active.Id, token, LaunchUrl(baseUrl, active.Id, token), active.Phase, active.Step, active.ModelVersion);
+    }
+
+    private static string LaunchUrl(string baseUrl, string sessionId, string token) =>
+        $"{baseUrl}/annotate/{sessionId}#token={Uri.EscapeDataString(token)}";
+
+    public static async Task<Results<Ok<NextItem>, ProblemHttpResult>> GetNext(
+        string sessionId, TeachServeDb db, SessionEngine engine, SessionStateCache states, CancellationToken ct)
+    {
+        using var held = await states.LockAsync(sessionId, ct);
+        var session = await db.Sessions.AsNoTracking().FirstOrDefaultAsync(s => s.Id == sessionId, ct);
+        if (session is null) return Problems.NotFound("No such session.");
+        if (!session.IsActive) return TypedResults.Ok(new NextItem(session.Step, session.Phase, null));
+        var (version, run) = await engine.LoadAsync(db, session, ct);
+        var item = run.CurrentItem;
+        return TypedResults.Ok(new NextItem(session.Step, session.Phase,
+            new ItemForAnnotator(ItemRefs.For(session.RefKey, session.Step, item), version.Content[item], version.Model.Labels)));
+    }
+
+    public static async Task<Ok<AnswerResult>> PostAnswer(
+        string sessionId, AnswerRequest body, AnswerWriter writer, CancellationToken ct) =>
+        TypedResults.Ok(await writer.WriteAsync(sessionId, body, ct));
+
+    public static async Task<Results<Ok<SessionView>, ProblemHttpResult>> GetSession(
+        string sessionId, HttpContext http, TeachServeDb db, CancellationToken ct)
+    {
+        var session = await db.Sessions.AsNoTracking().FirstOrDefaultAsync(s => s.Id == sessionId, ct);
+        var role = http.User.Role();
+        if (session is null || (role == KeyRole.Owner && session.ProjectId != http.User.ProjectId()))
+            return Problems.NotFound("No such session.");
+        return TypedResults.Ok(View(session, forAnnotator: role == KeyRole.Session));
+    }
+
+    public static async Task<Results<Ok<SessionPage>, ProblemHttpResult>> ListSessions(
+        string projectId, string? phase, string? cursor, int? limit, TeachServeDb db, CancellationToken ct)
+    {
+        if (phase is not null && !Phases.All.Contains(phase))
+            return Problems.BadRequest($"'phase' must be one of {string.Join(", ", Phases.All)}.");
+        var after = Cursor.Decode(cursor, "cursor");
+        var take = Cursor.Limit(limit);
+        if (!await db.Projects.AnyAsync(p => p.Id == projectId, ct)) return Problems.NotFound("No such project.");
+        var query = db.Sessions.AsNoTracking().Where(s => s.ProjectId == projectId);
+        if (phase is not null) query = query.Where(s => s.Phase == phase);
+        if (after is not null) query = query.Where(s => string.Compare(s.Id, after) > 0);
+        var rows = await query.OrderBy(s => s.Id).Take(take + 1).ToListAsync(ct);
+        var page = rows.Take(take).Select(s => View(s, forAnnotator: false)).ToList();
+        return TypedResults.Ok(new SessionPage(page, rows.Count > take ? Cursor.Encode(page[^1].SessionId) : null));
+    }
+
+    public static SessionView View(Session s, bool forAnnotator) => new()
+    {
+        SessionId = s.Id,
+        WorkerRef = s.WorkerRef,
+        Phase = s.Phase,
+        Step = s.Step,
+        ItemsTaught = s.TaughtCount,
+        TestAnswered = s.TestAnswered,
+        PredictedError = forAnnotator && s.Phase == Phases.Testing ? null : s.PredictedError,
+        ModelVersion = s.ModelVersion,
+        Policy = s.Policy,
+        CreatedAt = s.CreatedAt,
+        EndedAt = s.EndedAt,
+        Evidence = s.EvidenceJson is null ? null : Json.Deserialize<EvidenceView>(s.EvidenceJson),
+    };
+}

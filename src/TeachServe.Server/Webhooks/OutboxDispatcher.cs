@@ -1,0 +1,167 @@
+using System.Text;
+using Microsoft.EntityFrameworkCore;
+using Microsoft.Extensions.Options;
+using TeachServe.Server.Infrastructure;
+using TeachServe.Server.Persistence;
+
+namespace TeachServe.Server.Webhooks;
+
+/// <summary>
+/// Delivers outbox rows at least once: a row leaves the pending state only after a 2xx answer (or after the
+/// last attempt). Failed attempts are retried with exponential backoff; rows survive restarts because they
+/// live in the database. Delivery ids let receivers drop duplicates.
+/// </summary>
+public sealed partial class OutboxDispatcher(
+    IServiceScopeFactory scopes,
+    IHttpClientFactory httpClients,
+    TimeProvider time,
+    IOptions<TeachServeOptions> options,
+    OutboxSignal signal,
+    ILogger<OutboxDispatcher> logger) : BackgroundService
+{
+    public const string HttpClientName = "webhooks";
+    private const int BatchSize = 20;
+    private TaskCompletionSource _idle = new(TaskCreationOptions.RunContinuationsAsynchronously);
+
+    /// <summary>Completes when the dispatcher has nothing due and its timer is armed (for tests that then move the clock).</summary>
+    public Task Idle => Volatile.Read(ref _idle).Task;
+
+    protected override async Task ExecuteAsync(CancellationToken stoppingToken)
+    {
+        var settings = options.Value.Webhooks;
+        while (!stoppingToken.IsCancellationRequested)
+        {
+            TimeSpan wait;
+            try
+            {
+                var nextDue = await DeliverDueAsync(stoppingToken);
+                wait = nextDue is { } due ? Clamp(due - time.GetUtcNow(), settings.PollInterval) : settings.PollInterval;
+            }
+            catch (OperationCanceledException) when (stoppingToken.IsCancellationRequested)
+            {
+                return;
+            }
+            catch (Exception e)
+            {
+                LogPassFailed(logger, e);
+                wait = settings.PollInterval;
+            }
+            if (wait <= TimeSpan.Zero) continue;
+            try
+            {
+                await signal.WaitAsync(wait, time, () => Volatile.Read(ref _idle).TrySetResult(), stoppingToken);
+            }
+            catch (OperationCanceledException)
+            {
+                return;
+            }
+            Volatile.Write(ref _idle, new TaskCompletionSource(TaskCreationOptions.RunContinuationsAsynchronously));
+        }
+    }
+
+    /// <summary>Attempts every due row once; returns when the next pending row falls due, if any.</summary>
+    public async Task<DateTimeOffset?> DeliverDueAsync(CancellationToken ct)
+    {
+        using var scope = scopes.CreateScope();
+        var db = scope.ServiceProvider.GetRequiredService<TeachServeDb>();
+        while (true)
+        {
+            var now = time.GetUtcNow();
+            var due = await db.Outbox
+                .Where(m => m.State == OutboxStates.Pending && m.NextAttemptAt <= now)
+                .OrderBy(m => m.NextAttemptAt).ThenBy(m => m.Id).Take(BatchSize).ToListAsync(ct);
+            if (due.Count == 0) break;
+            var projectIds = due.Select(m => m.ProjectId).Distinct().ToList();
+            var secrets = await db.Projects.Where(p => projectIds.Contains(p.Id))
+                .ToDictionaryAsync(p => p.Id, p => p.WebhookSecret, ct);
+            foreach (var message in due)
+                await AttemptAsync(message, secrets.GetValueOrDefault(message.ProjectId), ct);
+            await db.SaveChangesAsync(ct);
+        }
+        return await db.Outbox.Where(m => m.State == OutboxStates.Pending)
+            .MinAsync(m => (DateTimeOffset?)m.NextAttemptAt, ct);
+    }
+
+    private async Task AttemptAsync(OutboxMessage message, string? secret, CancellationToken ct)
+    {
+        var settings = options.Value.Webhooks;
+        message.Attempts++;
+        string? error;
+        if (string.IsNullOrEmpty(secret))
+        {
+            error = "The project has no webhook secret any more.";
+        }
+        else
+        {
+            error = await PostAsync(message, secret, settings.RequestTimeout, ct);
+        }
+
+        var now = time.GetUtcNow();
+        if (error is null)
+        {
+            message.State = OutboxStates.Delivered;
+            message.DeliveredAt = now;
+            message.LastError = null;
+            LogDelivered(logger, message.Id, message.EventType, message.Attempts);
+            return;
+        }
+        message.LastError = error.Length > 1000 ? error[..1000] : error;
+        if (message.Attempts >= settings.MaxAttempts)
+        {
+            message.State = OutboxStates.GaveUp;
+            LogGaveUp(logger, message.Id, message.Attempts, error);
+            return;
+        }
+        message.NextAttemptAt = now + Backoff(message.Attempts, settings);
+        LogRetry(logger, message.Id, message.Attempts, message.NextAttemptAt, error);
+    }
+
+    private async Task<string?> PostAsync(OutboxMessage message, string secret, TimeSpan timeout, CancellationToken ct)
+    {
+        using var request = new HttpRequestMessage(HttpMethod.Post, message.Url)
+        {
+            Content = new StringContent(message.PayloadJson, Encoding.UTF8, "application/json"),
+        };
+        request.Headers.Add(WebhookSignature.Header,
+            WebhookSignature.Create(secret, time.GetUtcNow().ToUnixTimeSeconds(), message.PayloadJson));
+        request.Headers.Add(WebhookSignature.DeliveryHeader, message.Id.ToString(System.Globalization.CultureInfo.InvariantCulture));
+        request.Headers.Add(WebhookSignature.EventHeader, message.EventType);
+        using var attempt = CancellationTokenSource.CreateLinkedTokenSource(ct);
+        attempt.CancelAfter(timeout);
+        try
+        {
+            using var response = await httpClients.CreateClient(HttpClientName).SendAsync(request, attempt.Token);
+            return response.IsSuccessStatusCode ? null : $"The receiver answered {(int)response.StatusCode}.";
+        }
+        catch (OperationCanceledException) when (!ct.IsCancellationRequested)
+        {
+            return $"No answer within {timeout.TotalSeconds} s.";
+        }
+        catch (HttpRequestException e)
+        {
+            return e.Message;
+        }
+    }
+
+    /// <summary>initial · 2^(attempt−1), capped.</summary>
+    public static TimeSpan Backoff(int attempts, WebhookOptions settings)
+    {
+        var factor = Math.Pow(2, Math.Min(attempts - 1, 30));
+        var delay = settings.InitialBackoff * factor;
+        return delay > settings.MaxBackoff ? settings.MaxBackoff : delay;
+    }
+
+    private static TimeSpan Clamp(TimeSpan wait, TimeSpan max) => wait < max ? wait : max;
+
+    [LoggerMessage(Level = LogLevel.Information, Message = "Webhook {Id} ({EventType}) delivered after {Attempts} attempt(s)")]
+    private static partial void LogDelivered(ILogger logger, long id, string eventType, int attempts);
+
+    [LoggerMessage(Level = LogLevel.Warning, Message = "Webhook {Id} attempt {Attempts} failed, next at {NextAttemptAt}: {Error}")]
+    private static partial void LogRetry(ILogger logger, long id, int attempts, DateTimeOffset nextAttemptAt, string error);
+
+    [LoggerMessage(Level = LogLevel.Error, Message = "Webhook {Id} given up after {Attempts} attempts: {Error}")]
+    private static partial void LogGaveUp(ILogger logger, long id, int attempts, string error);
+
+    [LoggerMessage(Level = LogLevel.Error, Message = "Outbox pass failed; retrying after the poll interval")]
+    private static partial void LogPassFailed(ILogger logger, Exception exception);
+}

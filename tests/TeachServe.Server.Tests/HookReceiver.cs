@@ -1,0 +1,61 @@
+using System.Threading.Channels;
+using Microsoft.AspNetCore.Builder;
+using Microsoft.AspNetCore.Hosting;
+using Microsoft.AspNetCore.Hosting.Server;
+using Microsoft.AspNetCore.Hosting.Server.Features;
+using Microsoft.AspNetCore.Http;
+using Microsoft.Extensions.DependencyInjection;
+using Microsoft.Extensions.Logging;
+
+namespace TeachServe.Server.Tests;
+
+/// <summary>A real HTTP server on a loopback port that records webhook deliveries and answers with scripted status codes.</summary>
+public sealed class HookReceiver : IAsyncDisposable
+{
+    private readonly WebApplication _app;
+    private readonly Channel<Delivery> _deliveries = Channel.CreateUnbounded<Delivery>();
+    private readonly Queue<int> _statuses;
+
+    public sealed record Delivery(string Body, string? Signature, string? DeliveryId, string? EventType, int AnsweredWith);
+
+    private HookReceiver(int[] statuses, int port)
+    {
+        _statuses = new Queue<int>(statuses);
+        var builder = WebApplication.CreateSlimBuilder();
+        builder.Logging.ClearProviders();
+        builder.WebHost.UseUrls($"http://127.0.0.1:{port}");
+        _app = builder.Build();
+        _app.MapPost("/hook", async (HttpRequest request) =>
+        {
+            using var reader = new StreamReader(request.Body);
+            var body = await reader.ReadToEndAsync();
+            int status;
+            lock (_statuses) status = _statuses.Count > 0 ? _statuses.Dequeue() : 200;
+            await _deliveries.Writer.WriteAsync(new Delivery(body, request.Headers["TeachServe-Signature"], request.Headers["TeachServe-Delivery"], request.Headers["TeachServe-Event"], status));
+            return Results.StatusCode(status);
+        });
+    }
+
+    public string Url { get; private set; } = "";
+
+    public static async Task<HookReceiver> StartAsync(int port = 0, params int[] statuses)
+    {
+        var receiver = new HookReceiver(statuses, port);
+        await receiver._app.StartAsync();
+        var address = receiver._app.Services.GetRequiredService<IServer>().Features.Get<IServerAddressesFeature>()!.Addresses.First();
+        receiver.Url = address.TrimEnd('/') + "/hook";
+        return receiver;
+    }
+
+    public async Task<Delivery> NextAsync() =>
+        await _deliveries.Reader.ReadAsync().AsTask().WaitAsync(TimeSpan.FromSeconds(30));
+
+    public static int FreePort()
+    {
+        using var listener = new System.Net.Sockets.TcpListener(System.Net.IPAddress.Loopback, 0);
+        listener.Start();
+        return ((System.Net.IPEndPoint)listener.LocalEndpoint).Port;
+    }
+
+    public async ValueTask DisposeAsync() => await _app.DisposeAsync();
+}

@@ -1,0 +1,72 @@
+using System.Net.Http.Json;
+using System.Text.Json.Nodes;
+using System.Text.RegularExpressions;
+using TeachServe.Core.Projects;
+
+namespace TeachServe.Server.Tests;
+
+public sealed partial class StartupTests
+{
+    [Fact]
+    public async Task Without_a_configured_admin_key_one_is_generated_printed_once_and_kept()
+    {
+        var dir = TestApp.NewDataDirectory();
+        var time = new Microsoft.Extensions.Time.Testing.FakeTimeProvider(DateTimeOffset.UnixEpoch.AddYears(56));
+        string key;
+        using (var first = new TestApp(new() { ["TeachServe:AdminKey"] = null }, dir, time))
+        {
+            first.Client();
+            key = AdminKey().Match(first.Banner.ToString()).Value;
+            Assert.StartsWith("tsa.", key, StringComparison.Ordinal);
+            await Api.JsonAsync(await first.Client(key).PostAsJsonAsync("/api/v1/projects", TestApp.ProjectJson()), 201);
+        }
+        using (var second = new TestApp(new() { ["TeachServe:AdminKey"] = null }, dir, time))
+        {
+            second.Client();
+            Assert.DoesNotContain(key, second.Banner.ToString(), StringComparison.Ordinal);
+            await Api.JsonAsync(await second.Client(key).PostAsJsonAsync("/api/v1/projects", TestApp.ProjectJson()), 201);
+        }
+        Microsoft.Data.Sqlite.SqliteConnection.ClearAllPools();
+        Directory.Delete(dir, recursive: true);
+    }
+
+    [Fact]
+    public async Task The_demo_project_is_loaded_compiled_and_ready_for_an_annotator()
+    {
+        var folder = Path.Combine(TestApp.NewDataDirectory(), "demo");
+        var items = TestApp.ItemsJsonl().Split('\n', StringSplitOptions.RemoveEmptyEntries)
+            .Select(l => System.Text.Json.JsonSerializer.Deserialize<ItemDefinition>(l, ProjectJson.Options)!).ToList();
+        var settings = System.Text.Json.JsonSerializer.Deserialize<ProjectSettings>(TestApp.ProjectJson().ToJsonString(), ProjectJson.Options)!;
+        ProjectFolder.Save(new ProjectDefinition(settings, items), folder);
+
+        using var app = new TestApp(new() { ["TeachServe:LoadDemo"] = "true", ["TeachServe:DemoProjectDirectory"] = folder });
+        app.Client();
+        var banner = app.Banner.ToString();
+        var owner = Line(banner, "Owner key");
+        var token = Line(banner, "Session token");
+        var session = Line(banner, "Demo session");
+        Assert.Contains("/annotate/", Line(banner, "Annotator link"), StringComparison.Ordinal);
+        var projectId = owner.Split('.')[1];
+        var project = await Api.JsonAsync(await app.Client(owner).GetAsync($"/api/v1/projects/{projectId}"), 200);
+        Assert.Equal(1, project["latestReadyVersion"]!.GetValue<int>());
+        var next = await Api.JsonAsync(await app.Client(token).GetAsync($"/api/v1/sessions/{session}/next"), 200);
+        Assert.NotNull(next["item"]);
+        Directory.Delete(Path.GetDirectoryName(folder)!, recursive: true);
+    }
+
+    [Fact]
+    public void Misconfiguration_stops_the_start_with_a_readable_message()
+    {
+        using var app = new TestApp(new() { ["TeachServe:Database:Provider"] = "oracle", ["TeachServe:AdminKey"] = "short" });
+        var error = Assert.ThrowsAny<Exception>(() => app.Client());
+        var message = error.ToString();
+        Assert.Contains("Database:Provider must be 'sqlite' or 'postgres'", message, StringComparison.Ordinal);
+        Assert.Contains("AdminKey must be at least 24 characters", message, StringComparison.Ordinal);
+    }
+
+    private static string Line(string banner, string name) =>
+        banner.Split('\n').Single(l => l.TrimStart().StartsWith(name, StringComparison.Ordinal)).Trim()[name.Length..].Trim().Split(' ')[0];
+
+    [GeneratedRegex(@"tsa\.[A-Za-z0-9_-]{20,}")]
+    private static partial Regex AdminKey();
+}

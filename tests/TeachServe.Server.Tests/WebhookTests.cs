@@ -1,0 +1,106 @@
+using System.Text.Json.Nodes;
+using Microsoft.EntityFrameworkCore;
+using Microsoft.Extensions.DependencyInjection;
+using TeachServe.Server.Persistence;
+using TeachServe.Server.Webhooks;
+
+namespace TeachServe.Server.Tests;
+
+public sealed class WebhookTests
+{
+    private const string Secret = "whsec-0123456789abcdef";
+
+    private static JsonObject WithHook(string url)
+    {
+        var project = TestApp.ProjectJson();
+        project["releaseWebhook"] = new JsonObject { ["url"] = url, ["secret"] = Secret };
+        return project;
+    }
+
+    private static string Honest(JsonNode item, string phase) => TestApp.TruthOf(item);
+
+    [Fact]
+    public async Task Release_is_posted_signed_and_retried_with_backoff()
+    {
+        await using var receiver = await HookReceiver.StartAsync(0, 503);
+        using var app = new TestApp();
+        var keys = await app.ReadyProjectAsync(WithHook(receiver.Url));
+        var s = await app.StartSessionAsync(keys);
+        var dispatcher = app.Service<OutboxDispatcher>();
+        await TestApp.RunAsync(s, Honest);
+
+        var first = await receiver.NextAsync();
+        Assert.Equal(503, first.AnsweredWith);
+        await dispatcher.Idle;
+        app.Time.Advance(TimeSpan.FromSeconds(10));
+        var second = await receiver.NextAsync();
+        Assert.Equal(200, second.AnsweredWith);
+        Assert.Equal(first.DeliveryId, second.DeliveryId);
+        Assert.Equal("session.released", second.EventType);
+        Assert.True(WebhookSignature.Verify(second.Signature!, Secret, second.Body, app.Time.GetUtcNow(), TimeSpan.FromMinutes(5)));
+        Assert.False(WebhookSignature.Verify(second.Signature!, "another-secret-xyz", second.Body, app.Time.GetUtcNow(), TimeSpan.FromMinutes(5)));
+        var payload = JsonNode.Parse(second.Body)!;
+        Assert.Equal(s.SessionId, payload["sessionId"]!.GetValue<string>());
+        Assert.Equal("released", payload["phase"]!.GetValue<string>());
+
+        await dispatcher.Idle;
+        using var scope = app.Services.CreateScope();
+        var row = await scope.ServiceProvider.GetRequiredService<TeachServeDb>().Outbox.AsNoTracking().SingleAsync();
+        Assert.Equal(OutboxStates.Delivered, row.State);
+        Assert.Equal(2, row.Attempts);
+    }
+
+    [Fact]
+    public async Task Failed_sessions_are_posted_too()
+    {
+        await using var receiver = await HookReceiver.StartAsync();
+        using var app = new TestApp();
+        var keys = await app.ReadyProjectAsync(WithHook(receiver.Url));
+        var s = await app.StartSessionAsync(keys);
+        await TestApp.RunAsync(s, (item, phase) => phase == "testing" ? (TestApp.TruthOf(item) == "sound" ? "defect" : "sound") : TestApp.TruthOf(item));
+        var delivery = await receiver.NextAsync();
+        Assert.Equal("session.failed", delivery.EventType);
+    }
+
+    [Fact]
+    public async Task Undelivered_webhooks_survive_a_restart()
+    {
+        var port = HookReceiver.FreePort();
+        var dir = TestApp.NewDataDirectory();
+        var time = new Microsoft.Extensions.Time.Testing.FakeTimeProvider(new DateTimeOffset(2026, 1, 5, 9, 0, 0, TimeSpan.Zero));
+        string sessionId;
+        using (var app = new TestApp(dataDirectory: dir, time: time))
+        {
+            // Nobody listens on the port yet: the attempt fails and the row stays pending.
+            var keys = await app.ReadyProjectAsync(WithHook($"http://127.0.0.1:{port}/hook"));
+            var s = await app.StartSessionAsync(keys);
+            sessionId = s.SessionId;
+            await TestApp.RunAsync(s, Honest);
+            var dispatcher = app.Service<OutboxDispatcher>();
+            using var scope = app.Services.CreateScope();
+            var db = scope.ServiceProvider.GetRequiredService<TeachServeDb>();
+            while (await db.Outbox.AsNoTracking().AnyAsync(m => m.Attempts == 0)) await dispatcher.Idle.WaitAsync(TimeSpan.FromSeconds(30));
+            Assert.Equal(OutboxStates.Pending, (await db.Outbox.AsNoTracking().SingleAsync()).State);
+        }
+
+        await using var receiver = await HookReceiver.StartAsync(port);
+        time.Advance(TimeSpan.FromMinutes(1));
+        using (var restarted = new TestApp(dataDirectory: dir, time: time))
+        {
+            restarted.Client();
+            var delivery = await receiver.NextAsync();
+            Assert.Equal(sessionId, JsonNode.Parse(delivery.Body)!["sessionId"]!.GetValue<string>());
+        }
+        Microsoft.Data.Sqlite.SqliteConnection.ClearAllPools();
+        Directory.Delete(dir, recursive: true);
+    }
+
+    [Fact]
+    public void Backoff_doubles_up_to_the_cap()
+    {
+        var o = new TeachServe.Server.Infrastructure.WebhookOptions { InitialBackoff = TimeSpan.FromSeconds(10), MaxBackoff = TimeSpan.FromMinutes(5) };
+        Assert.Equal(TimeSpan.FromSeconds(10), OutboxDispatcher.Backoff(1, o));
+        Assert.Equal(TimeSpan.FromSeconds(40), OutboxDispatcher.Backoff(3, o));
+        Assert.Equal(TimeSpan.FromMinutes(5), OutboxDispatcher.Backoff(12, o));
+    }
+}
