@@ -19,9 +19,8 @@ internal sealed class ForwardLikelihood
     private readonly ulong[] _agree;     // per (item, label): bit h set when h(item) = label
     private readonly ulong[] _mistakes;  // per item: bit h set when h(item) ≠ y(item)
     private readonly double[] _prior;
-    private readonly int[] _stepItem;
-    private readonly int[] _stepLabel;
-    private readonly bool[] _stepTeaching;
+    private readonly int[] _agreeOffset;   // per step: start of its (item, answer) row in _agree
+    private readonly int[] _mistakeOffset; // per step: start of its item's row in _mistakes; -1 for a test step
     private readonly int[] _sessionStart; // session s owns steps [_sessionStart[s], _sessionStart[s+1])
     private readonly double[] _belief;
     private readonly double[] _learner;
@@ -68,9 +67,8 @@ internal sealed class ForwardLikelihood
             throw new ArgumentException("The recorded sessions contain no answers to fit the learner model to.", nameof(sessions));
         }
 
-        _stepItem = new int[total];
-        _stepLabel = new int[total];
-        _stepTeaching = new bool[total];
+        _agreeOffset = new int[total];
+        _mistakeOffset = new int[total];
         _sessionStart = new int[sessions.Count + 1];
         var index = 0;
         for (var s = 0; s < sessions.Count; s++)
@@ -95,9 +93,8 @@ internal sealed class ForwardLikelihood
                     throw new ArgumentException($"Session {s}, step {t}: item {step.Item} is a test item but is recorded as a teaching step.", nameof(sessions));
                 }
 
-                _stepItem[index] = step.Item;
-                _stepLabel[index] = step.Label;
-                _stepTeaching[index] = step.Teaching;
+                _agreeOffset[index] = ((step.Item * _labels) + step.Label) * _words;
+                _mistakeOffset[index] = step.Teaching ? step.Item * _words : -1;
                 index++;
             }
         }
@@ -136,28 +133,30 @@ internal sealed class ForwardLikelihood
 
     private double SessionLogLikelihood(int session, double q, double lapse)
     {
-        var belief = _belief.AsSpan();
-        var learner = _learner.AsSpan();
-        _prior.CopyTo(belief);
-        _prior.CopyTo(learner);
+        // Plain arrays in locals: the loop stays cheap even in unoptimised (Debug) builds, where span indexers are calls.
+        var belief = _belief;
+        var learner = _learner;
+        var agreeBits = _agree;
+        var mistakeBits = _mistakes;
+        var agreeOffset = _agreeOffset;
+        var mistakeOffset = _mistakeOffset;
+        Array.Copy(_prior, belief, _m);
+        Array.Copy(_prior, learner, _m);
         var m = _m;
-        var words = _words;
         var agree = 1.0 - lapse + (lapse / _labels);
         var disagree = lapse / _labels;
         var mass = 1.0; // Σ_h β(h), 1 up to rounding
-
         var logSum = 0.0;
         var product = 1.0;
         for (var t = _sessionStart[session]; t < _sessionStart[session + 1]; t++)
         {
-            var item = _stepItem[t];
-            var agreeRow = _agree.AsSpan(((item * _labels) + _stepLabel[t]) * words, words);
+            var a = agreeOffset[t];
 
             // Observe: the normaliser Σ_h β(h)·o(a|h,x) is this step's factor of the likelihood.
             var agreeMass = 0.0;
             for (var h = 0; h < m; h++)
             {
-                if ((agreeRow[h >> 6] & (1UL << (h & 63))) != 0)
+                if (((agreeBits[a + (h >> 6)] >> (h & 63)) & 1UL) != 0)
                 {
                     agreeMass += belief[h];
                 }
@@ -178,11 +177,12 @@ internal sealed class ForwardLikelihood
 
             var agreeFactor = agree / total;
             var disagreeFactor = disagree / total;
-            if (!_stepTeaching[t])
+            var w = mistakeOffset[t];
+            if (w < 0)
             {
                 for (var h = 0; h < m; h++)
                 {
-                    belief[h] *= (agreeRow[h >> 6] & (1UL << (h & 63))) != 0 ? agreeFactor : disagreeFactor;
+                    belief[h] *= ((agreeBits[a + (h >> 6)] >> (h & 63)) & 1UL) != 0 ? agreeFactor : disagreeFactor;
                 }
 
                 mass = 1.0;
@@ -190,13 +190,12 @@ internal sealed class ForwardLikelihood
             }
 
             // Move (DESIGN 2.3 step 2), fused with the observe update: β(h)·ℓ(h,x) + J·P(h|A_t), J = (1−q)·Σ_{wrong} β'(h).
-            var mistakeRow = _mistakes.AsSpan(item * words, words);
             var wrongMass = 0.0;
-            var newLearnerMass = 0.0;
+            var learnerMass = 0.0;
             for (var h = 0; h < m; h++)
             {
-                var v = belief[h] * ((agreeRow[h >> 6] & (1UL << (h & 63))) != 0 ? agreeFactor : disagreeFactor);
-                if ((mistakeRow[h >> 6] & (1UL << (h & 63))) != 0)
+                var v = belief[h] * (((agreeBits[a + (h >> 6)] >> (h & 63)) & 1UL) != 0 ? agreeFactor : disagreeFactor);
+                if (((mistakeBits[w + (h >> 6)] >> (h & 63)) & 1UL) != 0)
                 {
                     wrongMass += v;
                     v *= q;
@@ -204,11 +203,11 @@ internal sealed class ForwardLikelihood
                 }
 
                 belief[h] = v;
-                newLearnerMass += learner[h];
+                learnerMass += learner[h];
             }
 
             // Rescale Q(h|A) to sum 1 in the same pass (it would underflow after many mistakes at large alpha).
-            var inverse = 1.0 / newLearnerMass;
+            var inverse = 1.0 / learnerMass;
             var jump = (1.0 - q) * wrongMass;
             mass = 0.0;
             for (var h = 0; h < m; h++)

@@ -206,7 +206,7 @@ public static class LearnerFit
             double DevianceAt(double u) => Deviance(best, ProfileAtAlpha(Math.Exp(u)).LogLikelihood);
             var (low, lowOpen) = Crossing(coordinates, deviances, Math.Log(alpha), -1, _minLogAlpha, threshold, DevianceAt);
             var (high, highOpen) = Crossing(coordinates, deviances, Math.Log(alpha), +1, _maxLogAlpha, threshold, DevianceAt);
-            return new ProfileInterval(Math.Exp(low), Math.Min(options.MaxAlpha, Math.Exp(high)), lowOpen, highOpen);
+            return new ProfileInterval(lowOpen ? options.MinAlpha : Math.Exp(low), highOpen ? options.MaxAlpha : Math.Exp(high), lowOpen, highOpen);
         }
 
         public ProfileInterval LapseInterval(ProfilePoint[] grid, double lapse, double best, double threshold)
@@ -216,7 +216,7 @@ public static class LearnerFit
             double DevianceAt(double l) => Deviance(best, ProfileAtLapse(l).LogLikelihood);
             var (low, lowOpen) = Crossing(coordinates, deviances, lapse, -1, 0.0, threshold, DevianceAt);
             var (high, highOpen) = Crossing(coordinates, deviances, lapse, +1, options.MaxLapse, threshold, DevianceAt);
-            return new ProfileInterval(Math.Max(0.0, low), high, lowOpen, highOpen);
+            return new ProfileInterval(lowOpen ? 0.0 : low, highOpen ? options.MaxLapse : high, lowOpen, highOpen);
         }
 
         private static double Deviance(double best, double profile) =>
