@@ -119,7 +119,8 @@ $upstreams  }
   }
 }
 CONF
-      "$(command -v nginx || echo /usr/sbin/nginx)" -p "$dir/nginx" -c "$dir/nginx/nginx.conf"
+      "$(command -v nginx || echo /usr/sbin/nginx)" -p "$dir/nginx" -c "$dir/nginx/nginx.conf" </dev/null >"$dir/nginx/logs/start.log" 2>&1 \
+        || { cat "$dir/nginx/logs/start.log" >&2; exit 1; }
       wait_ready "http://127.0.0.1:$front/readyz" 30 || { echo "local-cluster: nginx front not answering" >&2; exit 1; }
     fi
     echo "local-cluster: nodes on ${ports}${front:+, front on $front}; admin key in ${TEACHSERVE_ADMIN_KEY:+the environment}${TEACHSERVE_ADMIN_KEY:-$dir/admin-key}" >&2
