@@ -55,6 +55,7 @@ public sealed class DatabaseOutageTests
         finally
         {
             await Script.RunAsync("pg-cluster.sh", ["destroy", pgDir], TimeSpan.FromMinutes(1), []);
+            Directory.Delete(Path.GetDirectoryName(pgDir)!, recursive: true);
         }
     }
 }
