@@ -1,10 +1,44 @@
 #!/usr/bin/env bash
 # The whole TeachServe test suite, on a fresh machine: installs what the tests need, then runs every test project.
+# The server tests run twice, on SQLite and on PostgreSQL; the cluster tests start real nodes (and nginx) on
+# PostgreSQL. PostgreSQL is a throwaway cluster in a temp folder on a free loopback port, deleted on exit.
 set -euo pipefail
 cd "$(dirname "$0")"
 
 export DOTNET_CLI_TELEMETRY_OPTOUT=1 DOTNET_NOLOGO=1 DOTNET_SKIP_FIRST_TIME_EXPERIENCE=1
 
+# Debian's PostgreSQL and nginx (the round-robin front of the cluster tests).
+missing=0
+ls /usr/lib/postgresql/*/bin/initdb >/dev/null 2>&1 || missing=1
+command -v nginx >/dev/null 2>&1 || [[ -x /usr/sbin/nginx ]] || missing=1
+if [[ $missing == 1 ]]; then
+  if [[ $(id -u) -eq 0 ]]; then
+    DEBIAN_FRONTEND=noninteractive apt-get update -qq
+    DEBIAN_FRONTEND=noninteractive apt-get install -y -qq postgresql nginx >/dev/null
+  else
+    echo "test.sh: PostgreSQL and nginx are needed: sudo apt-get install -y postgresql nginx" >&2
+    exit 1
+  fi
+fi
+
+work=$(mktemp -d -t teachserve-test.XXXXXX)
+chmod 755 "$work"
+cleanup() { deploy/pg-cluster.sh destroy "$work/pg" || true; rm -rf "$work"; }
+trap cleanup EXIT
+
 dotnet restore TeachServe.sln
 dotnet build TeachServe.sln --no-restore -c Release
-dotnet test TeachServe.sln --no-build -c Release --logger "console;verbosity=normal" 2>&1 | tee /tmp/teachserve-test.log
+
+TEACHSERVE_TEST_POSTGRES=$(deploy/pg-cluster.sh start "$work/pg")
+export TEACHSERVE_TEST_POSTGRES
+echo "test.sh: PostgreSQL on ${TEACHSERVE_TEST_POSTGRES%%;Username*}"
+
+log=/tmp/teachserve-test.log
+: > "$log"
+status=0
+# Every project; the server tests here run on SQLite.
+dotnet test TeachServe.sln --no-build -c Release --logger "console;verbosity=normal" 2>&1 | tee -a "$log" || status=1
+# The server tests again, each test on a PostgreSQL database of its own.
+TEACHSERVE_TEST_PROVIDER=postgres dotnet test tests/TeachServe.Server.Tests --no-build -c Release \
+  --logger "console;verbosity=normal" 2>&1 | tee -a "$log" || status=1
+exit $status

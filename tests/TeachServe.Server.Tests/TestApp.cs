@@ -14,7 +14,7 @@ using TeachServe.Server.Infrastructure;
 
 namespace TeachServe.Server.Tests;
 
-/// <summary>One fresh server with its own SQLite file and a fake clock per test.</summary>
+/// <summary>One fresh server with its own database (SQLite file, or PostgreSQL database: see <see cref="TestDatabase"/>) and a fake clock per test.</summary>
 public sealed class TestApp : WebApplicationFactory<Program>
 {
     public const string AdminKey = "tsa.test-admin-key-0123456789abcdef";
@@ -27,7 +27,18 @@ public sealed class TestApp : WebApplicationFactory<Program>
         Settings = settings ?? [];
         Time = time ?? new FakeTimeProvider(new DateTimeOffset(2026, 1, 5, 9, 0, 0, TimeSpan.Zero));
         Banner = new StringWriter();
+        if (TestDatabase.IsPostgres)
+        {
+            // Nothing else creates the folder on PostgreSQL, and the restart tests delete it at the end.
+            Directory.CreateDirectory(DataDirectory);
+            PostgresDatabase = TestDatabase.NameFor(DataDirectory);
+            PostgresConnectionString = TestDatabase.Create(PostgresDatabase);
+        }
     }
+
+    /// <summary>This app's PostgreSQL database when the suite runs on PostgreSQL.</summary>
+    public string? PostgresDatabase { get; }
+    public string? PostgresConnectionString { get; }
 
     public string DataDirectory { get; }
     public Dictionary<string, string?> Settings { get; }
@@ -47,6 +58,11 @@ public sealed class TestApp : WebApplicationFactory<Program>
             ["TeachServe:PrintStartupBanner"] = "true",
             ["Logging:LogLevel:Default"] = "Warning",
         };
+        if (PostgresConnectionString is not null)
+        {
+            config["TeachServe:Database:Provider"] = "postgres";
+            config["TeachServe:Database:ConnectionString"] = PostgresConnectionString;
+        }
         foreach (var (key, value) in Settings) config[key] = value;
         builder.ConfigureAppConfiguration(c => c.AddInMemoryCollection(config));
         builder.ConfigureTestServices(s =>
@@ -71,6 +87,7 @@ public sealed class TestApp : WebApplicationFactory<Program>
         if (disposing && _ownsDirectory)
         {
             SqliteConnection.ClearAllPools();
+            if (PostgresDatabase is not null) TestDatabase.Drop(PostgresDatabase);
             try { Directory.Delete(DataDirectory, recursive: true); } catch (IOException) { }
         }
     }

@@ -7,8 +7,9 @@ namespace TeachServe.Server.Infrastructure;
 
 /// <summary>
 /// The one place where exceptions become responses: our own <see cref="ApiProblemException"/>, request-binding
-/// failures and concurrency conflicts map to 4xx problem details; anything else is logged and answered with a
-/// generic 500 that carries a trace id but never a stack trace.
+/// failures and concurrency conflicts map to 4xx problem details; an unreachable database to 503 with
+/// Retry-After; anything else is logged and answered with a generic 500 that carries a trace id but never a
+/// stack trace.
 /// </summary>
 public sealed partial class ProblemDetailsExceptionHandler(
     IProblemDetailsService problemDetails,
@@ -31,8 +32,15 @@ public sealed partial class ProblemDetailsExceptionHandler(
             JsonException e => Problem(StatusCodes.Status400BadRequest, "Malformed JSON", e.Message),
             DbUpdateConcurrencyException => Problem(StatusCodes.Status409Conflict, "Conflict",
                 "The resource was changed by another request; read it again and retry."),
+            _ when DatabaseUnavailable.Is(exception) => Problem(StatusCodes.Status503ServiceUnavailable, "Database unavailable",
+                "The database cannot be reached right now; nothing was changed by this request. Retry shortly."),
             _ => null,
         };
+        if (problem?.Status == StatusCodes.Status503ServiceUnavailable)
+        {
+            LogDatabaseUnavailable(logger, http.Request.Method, http.Request.Path, exception.GetBaseException().Message);
+            http.Response.Headers.RetryAfter = ((int)DatabaseUnavailable.RetryAfter.TotalSeconds).ToString(System.Globalization.CultureInfo.InvariantCulture);
+        }
         if (problem is null)
         {
             LogUnhandled(logger, exception, http.Request.Method, http.Request.Path);
@@ -66,6 +74,9 @@ public sealed partial class ProblemDetailsExceptionHandler(
         StatusCodes.Status415UnsupportedMediaType => "Unsupported media type",
         _ => "Bad request",
     };
+
+    [LoggerMessage(Level = LogLevel.Warning, Message = "Database unavailable for {Method} {Path}: {Reason}")]
+    private static partial void LogDatabaseUnavailable(ILogger logger, string method, string path, string reason);
 
     [LoggerMessage(Level = LogLevel.Error, Message = "Unhandled exception for {Method} {Path}")]
     private static partial void LogUnhandled(ILogger logger, Exception exception, string method, string path);

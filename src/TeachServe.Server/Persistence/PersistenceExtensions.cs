@@ -30,14 +30,15 @@ public static class PersistenceExtensions
             ? configured
             : $"Data Source={Path.Combine(Path.GetFullPath(options.DataDirectory), DatabaseFileName)};Default Timeout=30";
 
-    /// <summary>Applies migrations; SQLite additionally switches to write-ahead logging so readers never block the writer.</summary>
+    /// <summary>
+    /// Applies the provider's own migrations (each context only sees the ones in its folder); SQLite additionally
+    /// switches to write-ahead logging so readers never block the writer. Several nodes may start at once against
+    /// one PostgreSQL: EF Core takes a database lock around migrating, so only one applies them.
+    /// </summary>
     public static async Task MigrateAsync(TeachServeDb db, TeachServeOptions options, CancellationToken ct)
     {
         if (db.Database.IsSqlite() && options.Database.ConnectionString is not { Length: > 0 })
             Directory.CreateDirectory(Path.GetFullPath(options.DataDirectory));
-        if (db is PostgresTeachServeDb && !db.Database.GetMigrations().Any())
-            throw new InvalidOperationException(
-                "TeachServe:Database:Provider is 'postgres', but this build has no PostgreSQL migrations yet; use 'sqlite'.");
         await db.Database.MigrateAsync(ct);
         if (db.Database.IsSqlite())
             await db.Database.ExecuteSqlRawAsync("PRAGMA journal_mode=WAL;", ct);

@@ -6,7 +6,7 @@ using TeachServe.Server.Persistence;
 namespace TeachServe.Server.Versions;
 
 /// <summary>Background compilation of large projects, one at a time; rows left <c>compiling</c> by a restart are resumed.</summary>
-public sealed class VersionCompileQueue(
+public sealed partial class VersionCompileQueue(
     IServiceScopeFactory scopes, ModelVersionCache cache, TimeProvider time, ILogger<VersionCompileQueue> logger)
     : BackgroundService, IStartupStep
 {
@@ -32,7 +32,17 @@ public sealed class VersionCompileQueue(
             {
                 using var scope = scopes.CreateScope();
                 var db = scope.ServiceProvider.GetRequiredService<TeachServeDb>();
-                await VersionCompiler.CompilePendingAsync(db, projectId, number, cache, time, logger, stoppingToken);
+                try
+                {
+                    await VersionCompiler.CompilePendingAsync(db, projectId, number, cache, time, logger, stoppingToken);
+                }
+                catch (Exception e) when (DatabaseUnavailable.Is(e))
+                {
+                    // An outage must not stop the host; the row is still 'compiling', so try it again later.
+                    LogRetryCompile(logger, projectId, number, e.GetBaseException().Message);
+                    _ = RequeueLaterAsync(projectId, number, stoppingToken);
+                    continue;
+                }
                 Compiled?.Invoke(projectId, number);
             }
         }
@@ -40,4 +50,19 @@ public sealed class VersionCompileQueue(
         {
         }
     }
+
+    private async Task RequeueLaterAsync(string projectId, int number, CancellationToken ct)
+    {
+        try
+        {
+            await Task.Delay(DatabaseUnavailable.RetryAfter, time, ct);
+            Enqueue(projectId, number);
+        }
+        catch (OperationCanceledException)
+        {
+        }
+    }
+
+    [LoggerMessage(Level = LogLevel.Warning, Message = "Compiling {ProjectId} version {Number} waits for the database: {Reason}")]
+    private static partial void LogRetryCompile(ILogger logger, string projectId, int number, string reason);
 }
