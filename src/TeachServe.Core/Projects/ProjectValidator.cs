@@ -32,10 +32,8 @@ public static class ProjectValidator
                 Setting("name", "the project name is empty");
             Labels(s.Labels);
             Family(s.Family);
-            if (!PolicyNames.All.Contains(s.Policy))
-                Setting("policy", $"unknown policy '{s.Policy}'; expected {Names(PolicyNames.All)}");
-            if (!(s.BlendWeight >= 0 && double.IsFinite(s.BlendWeight)))
-                Setting("blendWeight", $"must be a finite number ≥ 0, not {s.BlendWeight}");
+            Check("policy", SettingRules.Policy(s.Policy));
+            Check("blendWeight", SettingRules.BlendWeight(s.BlendWeight));
             Learner(s.Learner);
             Gate(s.Gate);
         }
@@ -88,10 +86,8 @@ public static class ProjectValidator
                 Setting("learner", "the learner settings are missing");
                 return;
             }
-            if (!(l.Alpha > 0 && double.IsFinite(l.Alpha)))
-                Setting("learner.alpha", $"must be a finite number > 0, not {l.Alpha}");
-            if (!(l.Lapse >= 0 && l.Lapse <= 1))
-                Setting("learner.lapse", $"must be in [0, 1], not {l.Lapse}");
+            Check("learner.alpha", SettingRules.LearnerAlpha(l.Alpha));
+            Check("learner.lapse", SettingRules.LearnerLapse(l.Lapse));
         }
 
         private void Gate(GateSettings? g)
@@ -101,14 +97,10 @@ public static class ProjectValidator
                 Setting("gate", "the gate settings are missing");
                 return;
             }
-            if (!(g.TargetError > 0 && g.TargetError < 1))
-                Setting("gate.targetError", $"must be in (0, 1), not {g.TargetError}");
-            if (!(g.Confidence > 0 && g.Confidence < 1))
-                Setting("gate.confidence", $"must be in (0, 1), not {g.Confidence}");
-            if (g.MaxTeachingItems < 1)
-                Setting("gate.maxTeachingItems", $"must be ≥ 1, not {g.MaxTeachingItems}");
-            if (g.Retakes < 0)
-                Setting("gate.retakes", $"must be ≥ 0, not {g.Retakes}");
+            Check("gate.targetError", SettingRules.TargetError(g.TargetError));
+            Check("gate.confidence", SettingRules.Confidence(g.Confidence));
+            Check("gate.maxTeachingItems", SettingRules.MaxTeachingItems(g.MaxTeachingItems));
+            Check("gate.retakes", SettingRules.Retakes(g.Retakes));
 
             var t = g.Test;
             if (t is null)
@@ -116,18 +108,11 @@ public static class ProjectValidator
                 Setting("gate.test", "the test settings are missing");
                 return;
             }
-            if (t.Mode is not (TestModes.Sequential or TestModes.Fixed))
-                Setting("gate.test.mode", $"unknown test mode '{t.Mode}'; expected {TestModes.Sequential} or {TestModes.Fixed}");
-            if (t.MaxItems < 1)
-                Setting("gate.test.maxItems", $"must be ≥ 1, not {t.MaxItems}");
-            if (!(t.Delta > 0))
-                Setting("gate.test.delta", $"must be > 0, not {t.Delta}");
-            else if (g.TargetError is > 0 and < 1 && !(g.TargetError + t.Delta < 1)) // a bad target is reported once, above
-                Setting("gate.test.delta", $"targetError + delta must be < 1, not {g.TargetError} + {t.Delta}");
-            if (!(t.Alpha > 0 && t.Alpha < 0.5))
-                Setting("gate.test.alpha", $"must be in (0, 0.5), not {t.Alpha}");
-            if (!(t.Beta > 0 && t.Beta < 0.5))
-                Setting("gate.test.beta", $"must be in (0, 0.5), not {t.Beta}");
+            Check("gate.test.mode", SettingRules.TestMode(t.Mode));
+            Check("gate.test.maxItems", SettingRules.TestMaxItems(t.MaxItems));
+            Check("gate.test.delta", SettingRules.TestDelta(t.Delta, SettingRules.ValidTargetError(g.TargetError)));
+            Check("gate.test.alpha", SettingRules.TestAlpha(t.Alpha));
+            Check("gate.test.beta", SettingRules.TestBeta(t.Beta));
         }
 
         public void Items(ProjectSettings s, IReadOnlyList<ItemDefinition> items)
@@ -275,6 +260,12 @@ public static class ProjectValidator
                         Setting(field, $"unknown label '{label}'");
                 }
             }
+        }
+
+        private void Check(string field, string? message)
+        {
+            if (message is not null)
+                Setting(field, message);
         }
 
         private void Setting(string field, string message) =>

@@ -1,91 +1,12 @@
 using TeachServe.Core.Learning;
 using TeachServe.Core.Model;
 using TeachServe.Core.Teaching;
+using TeachServe.Core.Tests.Support;
 
 namespace TeachServe.Core.Tests.Engine;
 
 public class BeliefTests
 {
-    /// <summary>
-    /// Independent reference: sums the probability of every learner path (h_0, …, h_T) explicitly, with the
-    /// switching-learner transition of Singla et al. (ICML 2014) and lapse observations (DESIGN 2.2–2.3); the
-    /// filter must give the same marginal of h_T. REFERENCES.md E: brute-force enumerator [derived].
-    /// </summary>
-    private static double[] EnumeratePaths(ModelVersion model, double q, double lapse, (int Item, int Answer, bool Teach)[] steps)
-    {
-        var m = model.HypothesisCount;
-        var k = model.LabelCount;
-        var prior = model.Prior.ToArray();
-        var marginal = new double[m];
-
-        // Learner posterior P(·|A_t) after each prefix of teaching steps, straight from the definition.
-        double[] PosteriorAfter(int stepIndex)
-        {
-            var w = new double[m];
-            for (var h = 0; h < m; h++)
-            {
-                w[h] = prior[h];
-                for (var s = 0; s <= stepIndex; s++)
-                {
-                    if (steps[s].Teach && model.Predict(h, steps[s].Item) != model.TrueLabel(steps[s].Item))
-                    {
-                        w[h] *= q;
-                    }
-                }
-            }
-
-            var total = w.Sum();
-            return w.Select(v => v / total).ToArray();
-        }
-
-        var posteriors = Enumerable.Range(0, steps.Length).Select(PosteriorAfter).ToArray();
-        var path = new int[steps.Length + 1];
-
-        void Walk(int depth, double probability)
-        {
-            if (probability == 0)
-            {
-                return;
-            }
-
-            if (depth == steps.Length)
-            {
-                marginal[path[depth]] += probability;
-                return;
-            }
-
-            var (item, answer, teach) = steps[depth];
-            var held = path[depth];
-            var predicted = model.Predict(held, item);
-            var o = ((1 - lapse) * (predicted == answer ? 1 : 0)) + (lapse / k);
-            var p = probability * o;
-            for (var next = 0; next < m; next++)
-            {
-                double transition;
-                if (!teach || predicted == model.TrueLabel(item))
-                {
-                    transition = next == held ? 1 : 0;
-                }
-                else
-                {
-                    transition = ((1 - q) * posteriors[depth][next]) + (next == held ? q : 0);
-                }
-
-                path[depth + 1] = next;
-                Walk(depth + 1, p * transition);
-            }
-        }
-
-        for (var h0 = 0; h0 < m; h0++)
-        {
-            path[0] = h0;
-            Walk(0, prior[h0]);
-        }
-
-        var z = marginal.Sum();
-        return marginal.Select(v => v / z).ToArray();
-    }
-
     [Theory]
     [InlineData(1, 2, 0.1)]
     [InlineData(2, 2, 0.0)]
@@ -126,7 +47,8 @@ public class BeliefTests
             }
         }
 
-        var expected = EnumeratePaths(model, model.Q, lapse, steps);
+        // REFERENCES.md E: brute-force enumerator [derived].
+        var (expected, _) = LearnerPaths.Enumerate(model, model.Q, lapse, steps.Select(s => new LearnerPaths.Step(s.Item1, s.Item2, s.Item3)).ToArray());
         for (var h = 0; h < model.HypothesisCount; h++)
         {
             Assert.Equal(expected[h], belief.Weights[h], 12);
