@@ -2,6 +2,7 @@ using Scalar.AspNetCore;
 using TeachServe.Server.Auth;
 using TeachServe.Server.Demo;
 using TeachServe.Server.Events;
+using TeachServe.Server.Experiments;
 using TeachServe.Server.Health;
 using TeachServe.Server.Infrastructure;
 using TeachServe.Server.Items;
@@ -74,6 +75,7 @@ api.MapSessions();
 api.MapReleases();
 api.MapEvents();
 api.MapWorkers();
+api.MapExperiments();
 app.MapHealth();
 
 app.Run();
