@@ -3,6 +3,7 @@ using TeachServe.Server.Auth;
 using TeachServe.Server.Demo;
 using TeachServe.Server.Events;
 using TeachServe.Server.Experiments;
+using TeachServe.Server.Fits;
 using TeachServe.Server.Health;
 using TeachServe.Server.Infrastructure;
 using TeachServe.Server.Items;
@@ -76,6 +77,7 @@ api.MapReleases();
 api.MapEvents();
 api.MapWorkers();
 api.MapExperiments();
+api.MapFits();
 app.MapHealth();
 
 app.Run();
