@@ -65,6 +65,9 @@ public sealed class ExperimentTests
         }
 
         var report = await Api.JsonAsync(await owner.GetAsync($"/api/v1/experiments/{id}/report"), 200);
+        // docs/research.md quotes a report from this run; set the variable to write one.
+        if (Environment.GetEnvironmentVariable("TEACHSERVE_SAMPLE_REPORT") is { Length: > 0 } sample)
+            await File.WriteAllTextAsync(sample, report.ToJsonString(new System.Text.Json.JsonSerializerOptions { WriteIndented = true }));
 
         // Independent recomputation from the exported event log alone (not from the session rows).
         var ended = events.Where(e => e["type"]!.GetValue<string>() is "session.released" or "session.failed")

@@ -115,7 +115,7 @@ public static class SimulationsApi
     private static SimulationView View(SimulationJob job, SimulationQueue queue)
     {
         var progress = job.Status == SimulationStatuses.Running ? queue.Progress(job.Id) ?? job.Progress : job.Progress;
-        return new SimulationView(job.Id, job.ProjectId, job.ModelVersion, job.Status, Math.Round(100 * progress, 1), job.Reason,
+        return new SimulationView(job.Id, job.ProjectId, job.ModelVersion, job.Status, 100 * progress, job.Reason,
             JsonSerializer.Deserialize<CreateSimulationRequest>(job.RequestJson, ReportJson.Options)!, Results(job),
             job.CreatedAt, job.StartedAt, job.FinishedAt);
     }
