@@ -2,6 +2,8 @@ using Scalar.AspNetCore;
 using TeachServe.Server.Auth;
 using TeachServe.Server.Demo;
 using TeachServe.Server.Events;
+using TeachServe.Server.Experiments;
+using TeachServe.Server.Fits;
 using TeachServe.Server.Health;
 using TeachServe.Server.Infrastructure;
 using TeachServe.Server.Items;
@@ -9,6 +11,7 @@ using TeachServe.Server.Persistence;
 using TeachServe.Server.Projects;
 using TeachServe.Server.Releases;
 using TeachServe.Server.Sessions;
+using TeachServe.Server.Simulations;
 using TeachServe.Server.Versions;
 using TeachServe.Server.Webhooks;
 using TeachServe.Server.Workers;
@@ -55,6 +58,9 @@ builder.Services.AddSingleton<OutboxSignal>();
 builder.Services.AddHttpClient(OutboxDispatcher.HttpClientName);
 builder.Services.AddSingleton<OutboxDispatcher>();
 builder.Services.AddHostedService(sp => sp.GetRequiredService<OutboxDispatcher>());
+builder.Services.AddOptions<SimulationLimits>().BindConfiguration(SimulationLimits.Section);
+builder.Services.AddSingleton<SimulationQueue>();
+builder.Services.AddHostedService(sp => sp.GetRequiredService<SimulationQueue>());
 
 var app = builder.Build();
 
@@ -74,6 +80,9 @@ api.MapSessions();
 api.MapReleases();
 api.MapEvents();
 api.MapWorkers();
+api.MapExperiments();
+api.MapFits();
+api.MapSimulations();
 app.MapHealth();
 
 app.Run();

@@ -26,6 +26,11 @@ public sealed class Session
     public DateTimeOffset LastSeenAt { get; set; }
     public DateTimeOffset? EndedAt { get; set; }
     public string? EvidenceJson { get; set; }
+    /// <summary>The experiment the session was assigned in, if one was running when it started.</summary>
+    public string? ExperimentId { get; set; }
+    public int? ArmIndex { get; set; }
+    /// <summary>The arm's definition as it was at the start, so a replay applies exactly the same options.</summary>
+    public string? ArmJson { get; set; }
 }
 
 public static class Phases

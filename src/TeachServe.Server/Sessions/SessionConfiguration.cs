@@ -22,6 +22,8 @@ public sealed class SessionConfiguration : IEntityTypeConfiguration<Session>
         builder.HasIndex(s => new { s.ProjectId, s.WorkerRef }).IsUnique().HasFilter("\"IsActive\"");
         builder.HasIndex(s => new { s.ProjectId, s.WorkerRef, s.Id });
         builder.HasIndex(s => new { s.ProjectId, s.Phase, s.Id });
+        builder.Property(s => s.ExperimentId).HasMaxLength(40);
+        builder.HasIndex(s => new { s.ExperimentId, s.Id });
         builder.HasOne<Project>().WithMany().HasForeignKey(s => s.ProjectId).OnDelete(DeleteBehavior.Cascade);
     }
 }

@@ -12,8 +12,12 @@ namespace TeachServe.Server.Sessions;
 /// <summary>Gets a session's engine state: from the per-node cache, or by replaying its answer events on its model version.</summary>
 public sealed class SessionEngine(ModelVersionCache versions, SessionStateCache states)
 {
-    public static SessionOptions Options(CompiledVersion version, Session session) =>
-        SessionOptions.FromProject(version.Settings, unchecked((ulong)session.Seed));
+    public static SessionOptions Options(CompiledVersion version, Session session)
+    {
+        var options = SessionOptions.FromProject(version.Settings, unchecked((ulong)session.Seed));
+        // An experiment arm's overrides were fixed at the start; applying the stored copy keeps replay exact.
+        return session.ArmJson is null ? options : Json.Deserialize<Core.Experiments.ArmDefinition>(session.ArmJson).Apply(options);
+    }
 
     /// <summary>Call with the session's lock held.</summary>
     public async Task<(CompiledVersion Version, SessionRun Run)> LoadAsync(TeachServeDb db, Session session, CancellationToken ct)

@@ -67,6 +67,13 @@ public static class SessionsApi
             Step = 0, ModelVersion = version.Number, Policy = version.Settings.Policy, Seed = seed,
             TokenHash = ApiKeys.Hash(token), RefKey = ItemRefs.NewKey(), CreatedAt = now, LastSeenAt = now,
         };
+        if (await Experiments.ExperimentArms.AssignAsync(db, projectId, workerRef, ct) is { } arm)
+        {
+            session.ExperimentId = arm.ExperimentId;
+            session.ArmIndex = arm.Index;
+            session.ArmJson = Json.Serialize(arm.Definition);
+            session.Policy = arm.Definition.Policy;
+        }
         var run = SessionRun.Start(version.Model, SessionEngine.Options(version, session));
         session.Phase = SessionEngine.PhaseName(run.Phase);
         session.PredictedError = run.PredictedError;
@@ -74,7 +81,12 @@ public static class SessionsApi
         db.Events.Add(new SessionEvent
         {
             ProjectId = projectId, SessionId = id, WorkerRef = workerRef, Type = EventTypes.SessionStarted, At = now,
-            DataJson = Json.Serialize(new { modelVersion = version.Number, policy = session.Policy, seed }),
+            DataJson = Json.Serialize(new
+            {
+                modelVersion = version.Number, policy = session.Policy, seed, predictedError = run.PredictedError,
+                experimentId = session.ExperimentId, arm = session.ArmIndex,
+                armName = session.ArmIndex is { } a ? Json.Deserialize<Core.Experiments.ArmDefinition>(session.ArmJson!).Name : null,
+            }),
         });
         try
         {

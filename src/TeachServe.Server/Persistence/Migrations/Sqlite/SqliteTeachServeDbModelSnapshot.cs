@@ -62,6 +62,83 @@ namespace TeachServe.Server.Persistence.Migrations.Sqlite
                     b.ToTable("Events", (string)null);
                 });
 
+            modelBuilder.Entity("TeachServe.Server.Experiments.Experiment", b =>
+                {
+                    b.Property<string>("Id")
+                        .HasMaxLength(40)
+                        .HasColumnType("TEXT");
+
+                    b.Property<long>("CreatedAt")
+                        .HasColumnType("INTEGER");
+
+                    b.Property<string>("DefinitionJson")
+                        .IsRequired()
+                        .HasColumnType("TEXT");
+
+                    b.Property<string>("Name")
+                        .IsRequired()
+                        .HasMaxLength(200)
+                        .HasColumnType("TEXT");
+
+                    b.Property<string>("ProjectId")
+                        .IsRequired()
+                        .HasMaxLength(40)
+                        .HasColumnType("TEXT");
+
+                    b.Property<long?>("StartedAt")
+                        .HasColumnType("INTEGER");
+
+                    b.Property<string>("Status")
+                        .IsRequired()
+                        .HasMaxLength(16)
+                        .HasColumnType("TEXT");
+
+                    b.Property<long?>("StoppedAt")
+                        .HasColumnType("INTEGER");
+
+                    b.HasKey("Id");
+
+                    b.HasIndex("ProjectId")
+                        .IsUnique()
+                        .HasDatabaseName("IX_Experiments_ProjectId_Running")
+                        .HasFilter("\"Status\" = 'running'");
+
+                    b.HasIndex("ProjectId", "Id");
+
+                    b.ToTable("Experiments", (string)null);
+                });
+
+            modelBuilder.Entity("TeachServe.Server.Fits.LearnerFitRecord", b =>
+                {
+                    b.Property<string>("Id")
+                        .HasMaxLength(40)
+                        .HasColumnType("TEXT");
+
+                    b.Property<long?>("AppliedAt")
+                        .HasColumnType("INTEGER");
+
+                    b.Property<long>("CreatedAt")
+                        .HasColumnType("INTEGER");
+
+                    b.Property<int>("ModelVersion")
+                        .HasColumnType("INTEGER");
+
+                    b.Property<string>("ProjectId")
+                        .IsRequired()
+                        .HasMaxLength(40)
+                        .HasColumnType("TEXT");
+
+                    b.Property<string>("ResultJson")
+                        .IsRequired()
+                        .HasColumnType("TEXT");
+
+                    b.HasKey("Id");
+
+                    b.HasIndex("ProjectId", "Id");
+
+                    b.ToTable("Fits", (string)null);
+                });
+
             modelBuilder.Entity("TeachServe.Server.Items.Item", b =>
                 {
                     b.Property<string>("ProjectId")
@@ -201,6 +278,12 @@ namespace TeachServe.Server.Persistence.Migrations.Sqlite
                         .HasMaxLength(40)
                         .HasColumnType("TEXT");
 
+                    b.Property<int?>("ArmIndex")
+                        .HasColumnType("INTEGER");
+
+                    b.Property<string>("ArmJson")
+                        .HasColumnType("TEXT");
+
                     b.Property<long>("CreatedAt")
                         .HasColumnType("INTEGER");
 
@@ -208,6 +291,10 @@ namespace TeachServe.Server.Persistence.Migrations.Sqlite
                         .HasColumnType("INTEGER");
 
                     b.Property<string>("EvidenceJson")
+                        .HasColumnType("TEXT");
+
+                    b.Property<string>("ExperimentId")
+                        .HasMaxLength(40)
                         .HasColumnType("TEXT");
 
                     b.Property<bool>("IsActive")
@@ -267,6 +354,8 @@ namespace TeachServe.Server.Persistence.Migrations.Sqlite
 
                     b.HasKey("Id");
 
+                    b.HasIndex("ExperimentId", "Id");
+
                     b.HasIndex("ProjectId", "WorkerRef")
                         .IsUnique()
                         .HasFilter("\"IsActive\"");
@@ -276,6 +365,57 @@ namespace TeachServe.Server.Persistence.Migrations.Sqlite
                     b.HasIndex("ProjectId", "WorkerRef", "Id");
 
                     b.ToTable("Sessions", (string)null);
+                });
+
+            modelBuilder.Entity("TeachServe.Server.Simulations.SimulationJob", b =>
+                {
+                    b.Property<string>("Id")
+                        .HasMaxLength(40)
+                        .HasColumnType("TEXT");
+
+                    b.Property<long>("CreatedAt")
+                        .HasColumnType("INTEGER");
+
+                    b.Property<long?>("FinishedAt")
+                        .HasColumnType("INTEGER");
+
+                    b.Property<int>("ModelVersion")
+                        .HasColumnType("INTEGER");
+
+                    b.Property<double>("Progress")
+                        .HasColumnType("REAL");
+
+                    b.Property<string>("ProjectId")
+                        .IsRequired()
+                        .HasMaxLength(40)
+                        .HasColumnType("TEXT");
+
+                    b.Property<string>("Reason")
+                        .HasMaxLength(500)
+                        .HasColumnType("TEXT");
+
+                    b.Property<string>("RequestJson")
+                        .IsRequired()
+                        .HasColumnType("TEXT");
+
+                    b.Property<string>("ResultJson")
+                        .HasColumnType("TEXT");
+
+                    b.Property<long?>("StartedAt")
+                        .HasColumnType("INTEGER");
+
+                    b.Property<string>("Status")
+                        .IsRequired()
+                        .HasMaxLength(16)
+                        .HasColumnType("TEXT");
+
+                    b.HasKey("Id");
+
+                    b.HasIndex("Status");
+
+                    b.HasIndex("ProjectId", "Id");
+
+                    b.ToTable("SimulationJobs", (string)null);
                 });
 
             modelBuilder.Entity("TeachServe.Server.Versions.ModelVersionRecord", b =>
@@ -442,6 +582,24 @@ namespace TeachServe.Server.Persistence.Migrations.Sqlite
                         .IsRequired();
                 });
 
+            modelBuilder.Entity("TeachServe.Server.Experiments.Experiment", b =>
+                {
+                    b.HasOne("TeachServe.Server.Projects.Project", null)
+                        .WithMany()
+                        .HasForeignKey("ProjectId")
+                        .OnDelete(DeleteBehavior.Cascade)
+                        .IsRequired();
+                });
+
+            modelBuilder.Entity("TeachServe.Server.Fits.LearnerFitRecord", b =>
+                {
+                    b.HasOne("TeachServe.Server.Projects.Project", null)
+                        .WithMany()
+                        .HasForeignKey("ProjectId")
+                        .OnDelete(DeleteBehavior.Cascade)
+                        .IsRequired();
+                });
+
             modelBuilder.Entity("TeachServe.Server.Items.Item", b =>
                 {
                     b.HasOne("TeachServe.Server.Projects.Project", null)
@@ -461,6 +619,15 @@ namespace TeachServe.Server.Persistence.Migrations.Sqlite
                 });
 
             modelBuilder.Entity("TeachServe.Server.Sessions.Session", b =>
+                {
+                    b.HasOne("TeachServe.Server.Projects.Project", null)
+                        .WithMany()
+                        .HasForeignKey("ProjectId")
+                        .OnDelete(DeleteBehavior.Cascade)
+                        .IsRequired();
+                });
+
+            modelBuilder.Entity("TeachServe.Server.Simulations.SimulationJob", b =>
                 {
                     b.HasOne("TeachServe.Server.Projects.Project", null)
                         .WithMany()

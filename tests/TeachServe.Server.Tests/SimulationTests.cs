@@ -1,0 +1,120 @@
+using System.Net.Http.Json;
+using System.Text.Json.Nodes;
+
+namespace TeachServe.Server.Tests;
+
+public sealed class SimulationTests
+{
+    private static Dictionary<string, string?> BigJobs(int pendingPerProject = 4) => new()
+    {
+        ["TeachServe:Simulations:MaxLearners"] = "1000000",
+        ["TeachServe:Simulations:MaxLearnerRuns"] = "1000000",
+        ["TeachServe:Simulations:MaxPendingJobsPerProject"] = pendingPerProject.ToString(System.Globalization.CultureInfo.InvariantCulture),
+        ["TeachServe:Simulations:MaxRunTime"] = "00:05:00",
+    };
+
+    /// <summary>Polls the job until <paramref name="until"/> holds; a bounded loop over a condition, not a fixed wait.</summary>
+    private static async Task<JsonNode> WaitAsync(HttpClient owner, string id, Func<JsonNode, bool> until)
+    {
+        for (var i = 0; i < 1500; i++)
+        {
+            var job = await Api.JsonAsync(await owner.GetAsync($"/api/v1/simulations/{id}"), 200);
+            if (until(job)) return job;
+            await Task.Delay(20);
+        }
+        throw new TimeoutException($"Simulation {id} never reached the expected state.");
+    }
+
+    private static bool Ended(JsonNode job) => job["status"]!.GetValue<string>() is "succeeded" or "failed" or "canceled";
+
+    [Fact]
+    public async Task A_compare_run_reports_progress_and_ends_with_json_csv_and_plot()
+    {
+        using var app = new TestApp();
+        var keys = await app.ReadyProjectAsync();
+        var owner = app.Client(keys.OwnerKey);
+        var created = await Api.JsonAsync(await owner.PostAsJsonAsync($"/api/v1/projects/{keys.ProjectId}/simulations", new
+        {
+            policies = new[] { "random", "adaptive" }, variants = new[] { "assumed", "slow" }, learners = 40, seed = 7,
+        }), 202);
+        var id = created["simulationId"]!.GetValue<string>();
+        Assert.StartsWith("sim_", id, StringComparison.Ordinal);
+        var done = await WaitAsync(owner, id, Ended);
+        Assert.Equal("succeeded", done["status"]!.GetValue<string>());
+        Assert.Equal(100.0, done["percentDone"]!.GetValue<double>());
+        var results = done["results"]!.AsArray();
+        Assert.Equal(4, results.Count);
+        Assert.Equal(["random", "adaptive", "random", "adaptive"], results.Select(r => r!["policy"]!.GetValue<string>()));
+        Assert.Equal(["assumed", "assumed", "slow", "slow"], results.Select(r => r!["variant"]!.GetValue<string>()));
+        Assert.All(results, r => Assert.Equal(40, r!["learners"]!.GetValue<int>()));
+
+        // Seeded: the same request gives the same numbers.
+        var again = await Api.JsonAsync(await owner.PostAsJsonAsync($"/api/v1/projects/{keys.ProjectId}/simulations", new
+        {
+            policies = new[] { "random", "adaptive" }, variants = new[] { "assumed", "slow" }, learners = 40, seed = 7,
+        }), 202);
+        var repeat = await WaitAsync(owner, again["simulationId"]!.GetValue<string>(), Ended);
+        Assert.Equal(results.ToJsonString(), repeat["results"]!.ToJsonString());
+
+        var csv = await owner.GetStringAsync($"/api/v1/simulations/{id}/results.csv");
+        Assert.Equal(5, csv.Split("\r\n", StringSplitOptions.RemoveEmptyEntries).Length);
+        Assert.Contains("<svg", await owner.GetStringAsync($"/api/v1/simulations/{id}/plots/learning-curves.svg"), StringComparison.Ordinal);
+        await Api.ProblemAsync(await owner.PostAsync($"/api/v1/simulations/{id}/cancel", null), 409);
+        await Api.ProblemAsync(await app.Client((await app.CreateProjectAsync()).OwnerKey).GetAsync($"/api/v1/simulations/{id}"), 404);
+    }
+
+    [Fact]
+    public async Task A_running_simulation_can_be_canceled_and_pending_jobs_are_bounded()
+    {
+        using var app = new TestApp(BigJobs(pendingPerProject: 1));
+        var keys = await app.ReadyProjectAsync();
+        var owner = app.Client(keys.OwnerKey);
+        var url = $"/api/v1/projects/{keys.ProjectId}/simulations";
+        var id = (await Api.JsonAsync(await owner.PostAsJsonAsync(url, new { policies = new[] { "adaptive" }, learners = 1_000_000 }), 202))["simulationId"]!.GetValue<string>();
+        await WaitAsync(owner, id, j => j["percentDone"]!.GetValue<double>() > 0);
+        await Api.ProblemAsync(await owner.PostAsJsonAsync(url, new { policies = new[] { "random" }, learners = 5 }), 429);
+
+        var canceled = await Api.JsonAsync(await owner.DeleteAsync($"/api/v1/simulations/{id}"), 200);
+        Assert.NotEqual("succeeded", canceled["status"]!.GetValue<string>());
+        var ended = await WaitAsync(owner, id, Ended);
+        Assert.Equal("canceled", ended["status"]!.GetValue<string>());
+        Assert.Contains("Canceled", ended["reason"]!.GetValue<string>(), StringComparison.Ordinal);
+        Assert.InRange(ended["percentDone"]!.GetValue<double>(), 0, 99.9);
+        await Api.ProblemAsync(await owner.GetAsync($"/api/v1/simulations/{id}/results.csv"), 409);
+    }
+
+    [Fact]
+    public async Task A_simulation_past_the_run_time_limit_fails_with_a_reason()
+    {
+        using var app = new TestApp(BigJobs());
+        var keys = await app.ReadyProjectAsync();
+        var owner = app.Client(keys.OwnerKey);
+        var id = (await Api.JsonAsync(await owner.PostAsJsonAsync($"/api/v1/projects/{keys.ProjectId}/simulations",
+            new { policies = new[] { "adaptive" }, learners = 1_000_000 }), 202))["simulationId"]!.GetValue<string>();
+        // Progress is reported only after the deadline is armed on the (fake) clock.
+        await WaitAsync(owner, id, j => j["percentDone"]!.GetValue<double>() > 0);
+        app.Time.Advance(TimeSpan.FromMinutes(6));
+        var ended = await WaitAsync(owner, id, Ended);
+        Assert.Equal("failed", ended["status"]!.GetValue<string>());
+        Assert.Contains("run-time limit", ended["reason"]!.GetValue<string>(), StringComparison.Ordinal);
+    }
+
+    [Fact]
+    public async Task Requests_beyond_the_limits_are_422()
+    {
+        using var app = new TestApp();
+        var keys = await app.ReadyProjectAsync();
+        var owner = app.Client(keys.OwnerKey);
+        var url = $"/api/v1/projects/{keys.ProjectId}/simulations";
+        var tooBig = await Api.ProblemAsync(await owner.PostAsJsonAsync(url, new
+        {
+            policies = new[] { "random", "cover", "adaptive", "easy-first", "stochastic-greedy" },
+            variants = new[] { "assumed", "slow", "fast", "stuck", "forgetful" }, learners = 2000,
+        }), 422);
+        Assert.Contains("exceeds the limit", tooBig["detail"]!.GetValue<string>(), StringComparison.Ordinal);
+        await Api.ProblemAsync(await owner.PostAsJsonAsync(url, new { policies = new[] { "psychic" } }), 422);
+        await Api.ProblemAsync(await owner.PostAsJsonAsync(url, new { policies = new[] { "random" }, variants = new[] { "telepathic" } }), 422);
+        await Api.ProblemAsync(await owner.PostAsJsonAsync(url, new { policies = new[] { "random" }, learners = 0 }), 422);
+        await Api.ProblemAsync(await owner.PostAsJsonAsync(url, new { policies = new[] { "random" }, modelVersion = 5 }), 404);
+    }
+}
