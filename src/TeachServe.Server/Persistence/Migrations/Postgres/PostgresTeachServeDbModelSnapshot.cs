@@ -70,6 +70,83 @@ namespace TeachServe.Server.Persistence.Migrations.Postgres
                     b.ToTable("Events", (string)null);
                 });
 
+            modelBuilder.Entity("TeachServe.Server.Experiments.Experiment", b =>
+                {
+                    b.Property<string>("Id")
+                        .HasMaxLength(40)
+                        .HasColumnType("character varying(40)");
+
+                    b.Property<DateTimeOffset>("CreatedAt")
+                        .HasColumnType("timestamp with time zone");
+
+                    b.Property<string>("DefinitionJson")
+                        .IsRequired()
+                        .HasColumnType("text");
+
+                    b.Property<string>("Name")
+                        .IsRequired()
+                        .HasMaxLength(200)
+                        .HasColumnType("character varying(200)");
+
+                    b.Property<string>("ProjectId")
+                        .IsRequired()
+                        .HasMaxLength(40)
+                        .HasColumnType("character varying(40)");
+
+                    b.Property<DateTimeOffset?>("StartedAt")
+                        .HasColumnType("timestamp with time zone");
+
+                    b.Property<string>("Status")
+                        .IsRequired()
+                        .HasMaxLength(16)
+                        .HasColumnType("character varying(16)");
+
+                    b.Property<DateTimeOffset?>("StoppedAt")
+                        .HasColumnType("timestamp with time zone");
+
+                    b.HasKey("Id");
+
+                    b.HasIndex("ProjectId")
+                        .IsUnique()
+                        .HasDatabaseName("IX_Experiments_ProjectId_Running")
+                        .HasFilter("\"Status\" = 'running'");
+
+                    b.HasIndex("ProjectId", "Id");
+
+                    b.ToTable("Experiments", (string)null);
+                });
+
+            modelBuilder.Entity("TeachServe.Server.Fits.LearnerFitRecord", b =>
+                {
+                    b.Property<string>("Id")
+                        .HasMaxLength(40)
+                        .HasColumnType("character varying(40)");
+
+                    b.Property<DateTimeOffset?>("AppliedAt")
+                        .HasColumnType("timestamp with time zone");
+
+                    b.Property<DateTimeOffset>("CreatedAt")
+                        .HasColumnType("timestamp with time zone");
+
+                    b.Property<int>("ModelVersion")
+                        .HasColumnType("integer");
+
+                    b.Property<string>("ProjectId")
+                        .IsRequired()
+                        .HasMaxLength(40)
+                        .HasColumnType("character varying(40)");
+
+                    b.Property<string>("ResultJson")
+                        .IsRequired()
+                        .HasColumnType("text");
+
+                    b.HasKey("Id");
+
+                    b.HasIndex("ProjectId", "Id");
+
+                    b.ToTable("Fits", (string)null);
+                });
+
             modelBuilder.Entity("TeachServe.Server.Items.Item", b =>
                 {
                     b.Property<string>("ProjectId")
@@ -211,6 +288,12 @@ namespace TeachServe.Server.Persistence.Migrations.Postgres
                         .HasMaxLength(40)
                         .HasColumnType("character varying(40)");
 
+                    b.Property<int?>("ArmIndex")
+                        .HasColumnType("integer");
+
+                    b.Property<string>("ArmJson")
+                        .HasColumnType("text");
+
                     b.Property<DateTimeOffset>("CreatedAt")
                         .HasColumnType("timestamp with time zone");
 
@@ -219,6 +302,10 @@ namespace TeachServe.Server.Persistence.Migrations.Postgres
 
                     b.Property<string>("EvidenceJson")
                         .HasColumnType("text");
+
+                    b.Property<string>("ExperimentId")
+                        .HasMaxLength(40)
+                        .HasColumnType("character varying(40)");
 
                     b.Property<bool>("IsActive")
                         .HasColumnType("boolean");
@@ -277,6 +364,8 @@ namespace TeachServe.Server.Persistence.Migrations.Postgres
 
                     b.HasKey("Id");
 
+                    b.HasIndex("ExperimentId", "Id");
+
                     b.HasIndex("ProjectId", "WorkerRef")
                         .IsUnique()
                         .HasFilter("\"IsActive\"");
@@ -286,6 +375,57 @@ namespace TeachServe.Server.Persistence.Migrations.Postgres
                     b.HasIndex("ProjectId", "WorkerRef", "Id");
 
                     b.ToTable("Sessions", (string)null);
+                });
+
+            modelBuilder.Entity("TeachServe.Server.Simulations.SimulationJob", b =>
+                {
+                    b.Property<string>("Id")
+                        .HasMaxLength(40)
+                        .HasColumnType("character varying(40)");
+
+                    b.Property<DateTimeOffset>("CreatedAt")
+                        .HasColumnType("timestamp with time zone");
+
+                    b.Property<DateTimeOffset?>("FinishedAt")
+                        .HasColumnType("timestamp with time zone");
+
+                    b.Property<int>("ModelVersion")
+                        .HasColumnType("integer");
+
+                    b.Property<double>("Progress")
+                        .HasColumnType("double precision");
+
+                    b.Property<string>("ProjectId")
+                        .IsRequired()
+                        .HasMaxLength(40)
+                        .HasColumnType("character varying(40)");
+
+                    b.Property<string>("Reason")
+                        .HasMaxLength(500)
+                        .HasColumnType("character varying(500)");
+
+                    b.Property<string>("RequestJson")
+                        .IsRequired()
+                        .HasColumnType("text");
+
+                    b.Property<string>("ResultJson")
+                        .HasColumnType("text");
+
+                    b.Property<DateTimeOffset?>("StartedAt")
+                        .HasColumnType("timestamp with time zone");
+
+                    b.Property<string>("Status")
+                        .IsRequired()
+                        .HasMaxLength(16)
+                        .HasColumnType("character varying(16)");
+
+                    b.HasKey("Id");
+
+                    b.HasIndex("Status");
+
+                    b.HasIndex("ProjectId", "Id");
+
+                    b.ToTable("SimulationJobs", (string)null);
                 });
 
             modelBuilder.Entity("TeachServe.Server.Versions.ModelVersionRecord", b =>
@@ -456,6 +596,24 @@ namespace TeachServe.Server.Persistence.Migrations.Postgres
                         .IsRequired();
                 });
 
+            modelBuilder.Entity("TeachServe.Server.Experiments.Experiment", b =>
+                {
+                    b.HasOne("TeachServe.Server.Projects.Project", null)
+                        .WithMany()
+                        .HasForeignKey("ProjectId")
+                        .OnDelete(DeleteBehavior.Cascade)
+                        .IsRequired();
+                });
+
+            modelBuilder.Entity("TeachServe.Server.Fits.LearnerFitRecord", b =>
+                {
+                    b.HasOne("TeachServe.Server.Projects.Project", null)
+                        .WithMany()
+                        .HasForeignKey("ProjectId")
+                        .OnDelete(DeleteBehavior.Cascade)
+                        .IsRequired();
+                });
+
             modelBuilder.Entity("TeachServe.Server.Items.Item", b =>
                 {
                     b.HasOne("TeachServe.Server.Projects.Project", null)
@@ -475,6 +633,15 @@ namespace TeachServe.Server.Persistence.Migrations.Postgres
                 });
 
             modelBuilder.Entity("TeachServe.Server.Sessions.Session", b =>
+                {
+                    b.HasOne("TeachServe.Server.Projects.Project", null)
+                        .WithMany()
+                        .HasForeignKey("ProjectId")
+                        .OnDelete(DeleteBehavior.Cascade)
+                        .IsRequired();
+                });
+
+            modelBuilder.Entity("TeachServe.Server.Simulations.SimulationJob", b =>
                 {
                     b.HasOne("TeachServe.Server.Projects.Project", null)
                         .WithMany()
