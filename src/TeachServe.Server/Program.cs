@@ -1,4 +1,5 @@
 using Scalar.AspNetCore;
+using TeachServe.Server.Annotate;
 using TeachServe.Server.Auth;
 using TeachServe.Server.Demo;
 using TeachServe.Server.Events;
@@ -55,6 +56,7 @@ builder.Services.AddSingleton<OutboxSignal>();
 builder.Services.AddHttpClient(OutboxDispatcher.HttpClientName);
 builder.Services.AddSingleton<OutboxDispatcher>();
 builder.Services.AddHostedService(sp => sp.GetRequiredService<OutboxDispatcher>());
+builder.Services.AddAnnotatePage();
 
 var app = builder.Build();
 
@@ -74,7 +76,10 @@ api.MapSessions();
 api.MapReleases();
 api.MapEvents();
 api.MapWorkers();
+api.MapAnnotateApi();
 app.MapHealth();
+app.MapPageAssets();
+app.MapAnnotatePage();
 
 app.Run();
 

@@ -63,7 +63,8 @@ public sealed partial class DemoProject(
             return;
         }
         versions.Put(compiled);
-        var (_, session) = await SessionsApi.StartAsync(db, time, versions, states, project.Id, DemoWorker, baseUrl, ct);
+        // The demo link is read from the console later than a platform would hand one out: give it the token's lifetime.
+        var (_, session) = await SessionsApi.StartAsync(db, time, versions, states, project.Id, DemoWorker, baseUrl, ct, o.SessionIdleTimeout);
 
         banner.Add("Demo project", $"{project.Id}  ({definition.Settings.Name}, {definition.Items.Count} items, model version {record.Number})");
         banner.Add("Owner key", $"{keys.OwnerKey}   (shown once)");
