@@ -6,6 +6,7 @@ using TeachServe.Server.Events;
 using TeachServe.Server.Health;
 using TeachServe.Server.Infrastructure;
 using TeachServe.Server.Items;
+using TeachServe.Server.OwnerConsole;
 using TeachServe.Server.Persistence;
 using TeachServe.Server.Projects;
 using TeachServe.Server.Releases;
@@ -57,6 +58,7 @@ builder.Services.AddHttpClient(OutboxDispatcher.HttpClientName);
 builder.Services.AddSingleton<OutboxDispatcher>();
 builder.Services.AddHostedService(sp => sp.GetRequiredService<OutboxDispatcher>());
 builder.Services.AddAnnotatePage();
+builder.Services.AddOwnerConsole();
 
 var app = builder.Build();
 
@@ -64,6 +66,7 @@ app.UseExceptionHandler();
 app.UseStatusCodePages();
 app.UseAuthentication();
 app.UseRateLimiter();
+app.UseAntiforgery();
 
 app.MapOpenApi().DisableRateLimiting();
 app.MapScalarApiReference().DisableRateLimiting();
@@ -80,6 +83,7 @@ api.MapAnnotateApi();
 app.MapHealth();
 app.MapPageAssets();
 app.MapAnnotatePage();
+app.MapOwnerConsole();
 
 app.Run();
 
