@@ -40,7 +40,8 @@ public static class ConsoleAuth
             o.Cookie.Name = "teachserve-console-form";
             o.Cookie.Path = Path;
             o.Cookie.HttpOnly = true;
-            o.Cookie.SecurePolicy = CookieSecurePolicy.Always;
+            // Only half of the anti-forgery pair and no credential; Always would make antiforgery refuse plain-http loopback use.
+            o.Cookie.SecurePolicy = CookieSecurePolicy.SameAsRequest;
             o.Cookie.SameSite = SameSiteMode.Strict;
             o.FormFieldName = "__form";
         });

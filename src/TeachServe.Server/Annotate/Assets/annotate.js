@@ -109,6 +109,9 @@ const views = ["view-loading", "view-item", "view-notice", "view-end", "view-pro
 
 function show(viewId, focusId) {
   for (const id of views) $(id).hidden = id !== viewId;
+  // Which screen and step are showing, for platform QA and the browser tests to wait on.
+  document.body.dataset.view = viewId === "view-item" && !$("feedback").hidden ? "feedback" : viewId.slice(5);
+  document.body.dataset.step = String(state?.step ?? "");
   const target = $(focusId ?? viewId).querySelector?.("h1") ?? $(focusId);
   (focusId ? $(focusId) : target)?.focus({ preventScroll: false });
 }
