@@ -26,7 +26,7 @@ public static class Browser
     public static string ScreenshotDirectory { get; } = FindScreenshotDirectory();
 
     public static Task ShotAsync(IPage page, string name) =>
-        page.ScreenshotAsync(new PageScreenshotOptions { Path = Path.Combine(ScreenshotDirectory, name + ".png"), FullPage = true });
+        page.ScreenshotAsync(new PageScreenshotOptions { Path = Path.Combine(ScreenshotDirectory, name + ".png"), FullPage = true, Animations = ScreenshotAnimations.Disabled });
 
     private static string FindScreenshotDirectory()
     {

@@ -269,7 +269,11 @@ public static class ConsolePages
                 <tbody>{itemRows}</tbody>
                 <tfoot><tr><th scope="row">All</th><td class="num">{teachTotal}</td><td class="num">{testTotal}</td></tr></tfoot>
               </table>
-              <h3 id="upload-heading">Upload items</h3>
+              <h3>Event log</h3>
+              <p><a href="/console/events.jsonl" download>Download every event as JSON Lines</a> (session starts, answers, releases; for your own analysis).</p>
+            </section>
+            <section class="panel" aria-labelledby="upload-heading">
+              <h2 id="upload-heading">Upload items</h2>
               <p class="note">JSON Lines (<code>.jsonl</code>), a JSON array (<code>.json</code>) or CSV (<code>.csv</code>), the same formats and checks as
                  the API. Items are matched by <code>id</code>: new ones are added, changed ones replaced. If any line has a problem, nothing is stored.</p>
               {ProblemsFor("items")}
@@ -279,9 +283,8 @@ public static class ConsolePages
                 <input id="items-file" name="file" type="file" accept=".jsonl,.ndjson,.json,.csv" required>
                 <button type="submit" class="primary">Upload</button>
               </form>
-              <h3>Event log</h3>
-              <p><a href="/console/events.jsonl" download>Download every event as JSON Lines</a> (session starts, answers, releases; for your own analysis).</p>
             </section>
+            </div>
             <section class="panel" aria-labelledby="versions-heading">
               <h2 id="versions-heading">Model versions</h2>
               <p class="note">A model version freezes the items and settings as they are now. New sessions use the newest ready version; running sessions keep theirs.</p>
@@ -300,7 +303,6 @@ public static class ConsolePages
                 </table></div>
                 """)}
             </section>
-            </div>
             {SettingsForm(settings, token, ProblemsFor("settings"), typed)}
             """;
         return Html(http, Layout("Project", project.Name, "project", token, body), status);

@@ -36,7 +36,8 @@ public static class ConsolePlots
             dots.MarkerSize = 9;
             dots.LegendText = "one released annotator";
         }
-        plot.Axes.SetLimits(0, max, 0, max);
+        // A little room below zero, so an annotator with no test mistakes is not hidden behind the axis.
+        plot.Axes.SetLimits(-max * 0.03, max, -max * 0.03, max);
         plot.ShowLegend(Alignment.UpperLeft);
         return plot.GetSvgXml(Width, Height);
     }
@@ -59,6 +60,7 @@ public static class ConsolePlots
         target.LinePattern = LinePattern.Dotted;
         target.LegendText = $"target {targetError:0.###}";
         plot.Axes.SetLimits(0, Math.Max(5, xs[^1]), 0, Math.Min(1, Math.Max(startingError, ys.Max()) * 1.1));
+        plot.Axes.Bottom.TickGenerator = IntegerTicks();
         plot.ShowLegend(Alignment.UpperRight);
         return plot.GetSvgXml(Width, Height);
     }
@@ -79,14 +81,21 @@ public static class ConsolePlots
                 LineWidth = 0,
             }).ToList();
             plot.Add.Bars(bars);
-            plot.Axes.SetLimits(low, low + width * counts.Length, 0, counts.Max() * 1.15 + 0.5);
+            // At least ten items wide, so one bar does not fill the picture.
+            var span = Math.Max(10, width * counts.Length);
+            var middle = low + width * counts.Length / 2.0;
+            plot.Axes.SetLimits(Math.Max(0, middle - span / 2.0 - 1), middle + span / 2.0 + 1, 0, counts.Max() * 1.15 + 0.5);
         }
         else
         {
             plot.Axes.SetLimits(0, 50, 0, 1);
         }
+        plot.Axes.Bottom.TickGenerator = IntegerTicks();
+        plot.Axes.Left.TickGenerator = IntegerTicks();
         return plot.GetSvgXml(Width, Height);
     }
+
+    private static ScottPlot.TickGenerators.NumericAutomatic IntegerTicks() => new() { IntegerTicksOnly = true, TargetTickCount = 6 };
 
     /// <summary>Integer-aligned bins, about ten of them.</summary>
     public static (double Low, double Width, int[] Counts) Bins(IReadOnlyList<int> values)
@@ -102,6 +111,7 @@ public static class ConsolePlots
     private static Plot NewPlot(string title, string x, string y)
     {
         var plot = new Plot();
+        plot.Font.Set(Fonts.Sans);
         plot.Title(title, size: 15);
         plot.XLabel(x, size: 13);
         plot.YLabel(y, size: 13);

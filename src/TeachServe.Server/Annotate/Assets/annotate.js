@@ -216,6 +216,7 @@ function renderItem() {
     : `Check item ${s.testAnswered + 1}: which label fits?`;
   $("labels-legend").textContent = "Labels";
   renderButtons(s.labels, true);
+  $("labels-hint").hidden = false;
   $("feedback").hidden = true;
   onEnter = null;
   show("view-item", "item-heading");
@@ -227,6 +228,7 @@ function renderFeedback(feedback) {
   renderItemContent(feedback.item);
   $("item-heading").textContent = `Item ${feedback.teachingItem}: feedback`;
   renderButtons(feedback.labels, false);
+  $("labels-hint").hidden = true; // the number keys do nothing while feedback shows
   for (const button of $("label-buttons").children) {
     const label = button.dataset.label;
     if (label === r.label) {
