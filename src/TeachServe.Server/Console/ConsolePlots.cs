@@ -1,3 +1,4 @@
+using System.Text.RegularExpressions;
 using ScottPlot;
 
 namespace TeachServe.Server.OwnerConsole;
@@ -6,7 +7,7 @@ namespace TeachServe.Server.OwnerConsole;
 /// The console's three pictures, drawn on the server with ScottPlot as SVG (no script, nothing for the browser to
 /// fetch, the same picture in every browser). Each page also lists the numbers behind a picture in a table.
 /// </summary>
-public static class ConsolePlots
+public static partial class ConsolePlots
 {
     public const int Width = 560;
     public const int Height = 360;
@@ -39,7 +40,7 @@ public static class ConsolePlots
         // A little room below zero, so an annotator with no test mistakes is not hidden behind the axis.
         plot.Axes.SetLimits(-max * 0.03, max, -max * 0.03, max);
         plot.ShowLegend(Alignment.UpperLeft);
-        return plot.GetSvgXml(Width, Height);
+        return Svg(plot);
     }
 
     /// <summary>Mean predicted error after each teaching step, with the target as a line.</summary>
@@ -62,7 +63,7 @@ public static class ConsolePlots
         plot.Axes.SetLimits(0, Math.Max(5, xs[^1]), 0, Math.Min(1, Math.Max(startingError, ys.Max()) * 1.1));
         plot.Axes.Bottom.TickGenerator = IntegerTicks();
         plot.ShowLegend(Alignment.UpperRight);
-        return plot.GetSvgXml(Width, Height);
+        return Svg(plot);
     }
 
     /// <summary>How many items (teaching and test answers) released annotators needed.</summary>
@@ -92,8 +93,18 @@ public static class ConsolePlots
         }
         plot.Axes.Bottom.TickGenerator = IntegerTicks();
         plot.Axes.Left.TickGenerator = IntegerTicks();
-        return plot.GetSvgXml(Width, Height);
+        return Svg(plot);
     }
+
+    /// <summary>
+    /// The SVG names the server's font; the browser may not have it and would fall back to a serif face, so the text
+    /// asks for the console's own sans-serif stack instead (the layout was measured with a sans face too).
+    /// </summary>
+    private static string Svg(Plot plot) =>
+        FontFamily().Replace(plot.GetSvgXml(Width, Height), "font-family=\"system-ui, 'DejaVu Sans', Arial, sans-serif\"");
+
+    [GeneratedRegex("font-family=\"[^\"]*\"")]
+    private static partial Regex FontFamily();
 
     private static ScottPlot.TickGenerators.NumericAutomatic IntegerTicks() => new() { IntegerTicksOnly = true, TargetTickCount = 6 };
 

@@ -72,6 +72,7 @@ public sealed partial class DemoProject(
         banner.Add("Demo session", session.SessionId);
         banner.Add("Session token", session.Token);
         banner.Add("Annotator link", session.LaunchUrl);
+        banner.Add("Owner console", $"{baseUrl}/console   (sign in with the owner key)");
     }
 
     private string BaseUrl(TeachServeOptions o) =>
