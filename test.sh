@@ -7,6 +7,14 @@ cd "$(dirname "$0")"
 
 export DOTNET_CLI_TELEMETRY_OPTOUT=1 DOTNET_NOLOGO=1 DOTNET_SKIP_FIRST_TIME_EXPERIENCE=1
 
+# The browser tests drive Debian's Chromium through Playwright (Playwright's own browser download is not used).
+if [ ! -x /usr/bin/chromium ]; then
+  export DEBIAN_FRONTEND=noninteractive
+  SUDO=""; [ "$(id -u)" -ne 0 ] && SUDO="sudo"
+  $SUDO apt-get update
+  $SUDO apt-get install -y --no-install-recommends chromium
+fi
+
 # Debian's PostgreSQL and nginx (the round-robin front of the cluster tests).
 missing=0
 ls /usr/lib/postgresql/*/bin/initdb >/dev/null 2>&1 || missing=1

@@ -1,4 +1,5 @@
 using Scalar.AspNetCore;
+using TeachServe.Server.Annotate;
 using TeachServe.Server.Auth;
 using TeachServe.Server.Demo;
 using TeachServe.Server.Events;
@@ -7,6 +8,7 @@ using TeachServe.Server.Fits;
 using TeachServe.Server.Health;
 using TeachServe.Server.Infrastructure;
 using TeachServe.Server.Items;
+using TeachServe.Server.OwnerConsole;
 using TeachServe.Server.Persistence;
 using TeachServe.Server.Projects;
 using TeachServe.Server.Releases;
@@ -61,6 +63,8 @@ builder.Services.AddHostedService(sp => sp.GetRequiredService<OutboxDispatcher>(
 builder.Services.AddOptions<SimulationLimits>().BindConfiguration(SimulationLimits.Section);
 builder.Services.AddSingleton<SimulationQueue>();
 builder.Services.AddHostedService(sp => sp.GetRequiredService<SimulationQueue>());
+builder.Services.AddAnnotatePage();
+builder.Services.AddOwnerConsole();
 
 var app = builder.Build();
 
@@ -68,6 +72,7 @@ app.UseExceptionHandler();
 app.UseStatusCodePages();
 app.UseAuthentication();
 app.UseRateLimiter();
+app.UseAntiforgery();
 
 app.MapOpenApi().DisableRateLimiting();
 app.MapScalarApiReference().DisableRateLimiting();
@@ -83,7 +88,11 @@ api.MapWorkers();
 api.MapExperiments();
 api.MapFits();
 api.MapSimulations();
+api.MapAnnotateApi();
 app.MapHealth();
+app.MapPageAssets();
+app.MapAnnotatePage();
+app.MapOwnerConsole();
 
 app.Run();
 

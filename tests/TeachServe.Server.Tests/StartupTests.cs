@@ -46,6 +46,7 @@ public sealed partial class StartupTests
         var token = Line(banner, "Session token");
         var session = Line(banner, "Demo session");
         Assert.Contains("/annotate/", Line(banner, "Annotator link"), StringComparison.Ordinal);
+        Assert.DoesNotContain(token, Line(banner, "Annotator link"), StringComparison.Ordinal);
         var projectId = owner.Split('.')[1];
         var project = await Api.JsonAsync(await app.Client(owner).GetAsync($"/api/v1/projects/{projectId}"), 200);
         Assert.Equal(1, project["latestReadyVersion"]!.GetValue<int>());

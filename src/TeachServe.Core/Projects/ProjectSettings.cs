@@ -13,6 +13,21 @@ public sealed record ProjectSettings
     public string Policy { get; init; } = PolicyNames.Adaptive;
     /// <summary>Weight of the stochastic-greedy gain added to the adaptive gain (DESIGN 2.4); 2 was chosen by simulation on the seed projects (README).</summary>
     public double BlendWeight { get; init; } = 2.0;
+    /// <summary>What the annotator page says when a session ends; absent means the page's own wording.</summary>
+    public CompletionSettings? Completion { get; init; }
+}
+
+/// <summary>The end of onboarding as the annotator sees it: what happens next after a release or a failed test.</summary>
+public sealed record CompletionSettings
+{
+    /// <summary>Shown after a release, e.g. "Your first batch of live items will appear in your queue within a day."</summary>
+    public string? ReleasedMessage { get; init; }
+    /// <summary>Shown when the test did not pass and no retake is left.</summary>
+    public string? FailedMessage { get; init; }
+    /// <summary>Optional link shown at the end (absolute http or https URL), e.g. back to the platform.</summary>
+    public string? ContinueUrl { get; init; }
+    /// <summary>Text of that link.</summary>
+    public string? ContinueLabel { get; init; }
 }
 
 /// <summary>How the hypotheses of a project are generated (DESIGN 2.6).</summary>

@@ -63,7 +63,8 @@ public sealed partial class DemoProject(
             return;
         }
         versions.Put(compiled);
-        var (_, session) = await SessionsApi.StartAsync(db, time, versions, states, project.Id, DemoWorker, baseUrl, ct);
+        // The demo link is read from the console later than a platform would hand one out: give it the token's lifetime.
+        var (_, session) = await SessionsApi.StartAsync(db, time, versions, states, project.Id, DemoWorker, baseUrl, ct, o.SessionIdleTimeout);
 
         banner.Add("Demo project", $"{project.Id}  ({definition.Settings.Name}, {definition.Items.Count} items, model version {record.Number})");
         banner.Add("Owner key", $"{keys.OwnerKey}   (shown once)");
@@ -71,6 +72,7 @@ public sealed partial class DemoProject(
         banner.Add("Demo session", session.SessionId);
         banner.Add("Session token", session.Token);
         banner.Add("Annotator link", session.LaunchUrl);
+        banner.Add("Owner console", $"{baseUrl}/console   (sign in with the owner key)");
     }
 
     private string BaseUrl(TeachServeOptions o) =>

@@ -42,18 +42,25 @@ public static class ItemsApi
                 $"{parsed.Problems.Count} problem(s) found; nothing was stored.",
                 new Dictionary<string, object?> { ["errors"] = parsed.Problems });
 
-        var ids = parsed.Items.Select(i => i.Id).ToList();
+        return await StoreAsync(db, projectId, parsed.Items, limits, time, ct);
+    }
+
+    /// <summary>Upserts validated items by id in one transaction (the API's upload and the console's file picker share it).</summary>
+    public static async Task<Results<Ok<ItemUploadResult>, ProblemHttpResult>> StoreAsync(
+        TeachServeDb db, string projectId, IReadOnlyList<ItemDefinition> items, UploadOptions limits, TimeProvider time, CancellationToken ct)
+    {
+        var ids = items.Select(i => i.Id).ToList();
         var existing = await db.Items.Where(i => i.ProjectId == projectId && ids.Contains(i.ItemId))
             .ToDictionaryAsync(i => i.ItemId, StringComparer.Ordinal, ct);
         var stored = await db.Items.CountAsync(i => i.ProjectId == projectId, ct);
-        var newCount = parsed.Items.Count(i => !existing.ContainsKey(i.Id));
+        var newCount = items.Count(i => !existing.ContainsKey(i.Id));
         if (stored + newCount > limits.MaxItemsPerProject)
             return Problems.Unprocessable(
                 $"A project may hold at most {limits.MaxItemsPerProject} items; this upload would make {stored + newCount}.");
 
         var now = time.GetUtcNow();
         int created = 0, updated = 0, unchanged = 0;
-        foreach (var definition in parsed.Items)
+        foreach (var definition in items)
         {
             var json = Json.Serialize(definition);
             if (!existing.TryGetValue(definition.Id, out var row))
@@ -83,7 +90,7 @@ public static class ItemsApi
 
         var counts = await db.Items.Where(i => i.ProjectId == projectId)
             .GroupBy(i => i.Pool).Select(g => new { Pool = g.Key, Count = g.Count() }).ToListAsync(ct);
-        return TypedResults.Ok(new ItemUploadResult(parsed.Items.Count, created, updated, unchanged, new ItemCounts(
+        return TypedResults.Ok(new ItemUploadResult(items.Count, created, updated, unchanged, new ItemCounts(
             counts.FirstOrDefault(c => c.Pool == Pools.Teach)?.Count ?? 0,
             counts.FirstOrDefault(c => c.Pool == Pools.Test)?.Count ?? 0)));
     }

@@ -35,6 +35,16 @@ public static class SettingsRules
         Require(s.BlendWeight <= 1000, "blendWeight", "must be at most 1000");
         Require(s.Learner.Alpha <= 50, "learner.alpha", "must be at most 50 (larger values mean a learner that never keeps a wrong rule)");
 
+        if (s.Completion is { } end)
+        {
+            Require((end.ReleasedMessage?.Length ?? 0) <= 2000, "completion.releasedMessage", "must be at most 2000 characters");
+            Require((end.FailedMessage?.Length ?? 0) <= 2000, "completion.failedMessage", "must be at most 2000 characters");
+            Require((end.ContinueLabel?.Length ?? 0) <= 200, "completion.continueLabel", "must be at most 200 characters");
+            Require(end.ContinueUrl is null || (end.ContinueUrl.Length <= ProjectLimits.UrlLength
+                    && Uri.TryCreate(end.ContinueUrl, UriKind.Absolute, out var next) && next.Scheme is "http" or "https"),
+                "completion.continueUrl", "must be an absolute http or https URL");
+        }
+
         if (document.ReleaseWebhook is { } hook)
         {
             Require(hook.Url.Length <= ProjectLimits.UrlLength

@@ -2,6 +2,7 @@ using Microsoft.AspNetCore.Http.HttpResults;
 using Microsoft.EntityFrameworkCore;
 using Microsoft.Extensions.Options;
 using TeachServe.Core.Teaching;
+using TeachServe.Server.Annotate;
 using TeachServe.Server.Auth;
 using TeachServe.Server.Events;
 using TeachServe.Server.Infrastructure;
@@ -32,7 +33,8 @@ public static class SessionsApi
 
     public static async Task<Results<Created<SessionStarted>, Ok<SessionStarted>, ProblemHttpResult>> StartSession(
         string projectId, StartSessionRequest body, HttpRequest http, TeachServeDb db, TimeProvider time,
-        ModelVersionCache versions, SessionStateCache states, IOptions<TeachServeOptions> options, CancellationToken ct)
+        ModelVersionCache versions, SessionStateCache states, IOptions<TeachServeOptions> options,
+        IOptions<AnnotateOptions> page, CancellationToken ct)
     {
         var workerRef = body.WorkerRef;
         if (workerRef.Length is 0 or > SessionLimits.WorkerRefLength || workerRef.Any(char.IsControl))
@@ -40,16 +42,18 @@ public static class SessionsApi
         if (!await db.Projects.AnyAsync(p => p.Id == projectId, ct)) return Problems.NotFound("No such project.");
 
         var baseUrl = options.Value.PublicBaseUrl?.TrimEnd('/') ?? $"{http.Scheme}://{http.Host}";
-        var (created, started) = await StartAsync(db, time, versions, states, projectId, workerRef, baseUrl, ct);
+        var (created, started) = await StartAsync(db, time, versions, states, projectId, workerRef, baseUrl, ct, page.Value.LaunchCodeLifetime);
         return created ? TypedResults.Created($"/api/v1/sessions/{started.SessionId}", started) : TypedResults.Ok(started);
     }
 
     /// <summary>Starts a session for the worker, or returns its active one (created = false).</summary>
+    /// <param name="launchLifetime">How long the launch link's one-time code works (default: one hour).</param>
     public static async Task<(bool Created, SessionStarted Session)> StartAsync(
         TeachServeDb db, TimeProvider time, ModelVersionCache versions, SessionStateCache states,
-        string projectId, string workerRef, string baseUrl, CancellationToken ct)
+        string projectId, string workerRef, string baseUrl, CancellationToken ct, TimeSpan? launchLifetime = null)
     {
-        if (await ResumeAsync(db, projectId, workerRef, baseUrl, ct) is { } resumed) return (false, resumed);
+        var lifetime = launchLifetime ?? new AnnotateOptions().LaunchCodeLifetime;
+        if (await ResumeAsync(db, time, projectId, workerRef, baseUrl, lifetime, ct) is { } resumed) return (false, resumed);
 
         var number = await db.ModelVersions
             .Where(v => v.ProjectId == projectId && v.Status == VersionStatuses.Ready)
@@ -78,6 +82,7 @@ public static class SessionsApi
         session.Phase = SessionEngine.PhaseName(run.Phase);
         session.PredictedError = run.PredictedError;
         db.Sessions.Add(session);
+        var launchUrl = LaunchCodes.Issue(db, time, baseUrl, id, token, lifetime);
         db.Events.Add(new SessionEvent
         {
             ProjectId = projectId, SessionId = id, WorkerRef = workerRef, Type = EventTypes.SessionStarted, At = now,
@@ -96,26 +101,27 @@ public static class SessionsApi
         {
             // A concurrent start for the same worker won (unique active index); hand out that session.
             db.ChangeTracker.Clear();
-            if (await ResumeAsync(db, projectId, workerRef, baseUrl, ct) is { } raced) return (false, raced);
+            if (await ResumeAsync(db, time, projectId, workerRef, baseUrl, lifetime, ct) is { } raced) return (false, raced);
             throw;
         }
         states.Put(id, run);
-        return (true, new SessionStarted(id, token, LaunchUrl(baseUrl, id, token), session.Phase, 0, version.Number));
+        return (true, new SessionStarted(id, token, launchUrl, session.Phase, 0, version.Number));
     }
 
     /// <summary>The worker's active session with a fresh token (tokens are stored hashed, so the old one cannot be shown again).</summary>
-    private static async Task<SessionStarted?> ResumeAsync(TeachServeDb db, string projectId, string workerRef, string baseUrl, CancellationToken ct)
+    private static async Task<SessionStarted?> ResumeAsync(
+        TeachServeDb db, TimeProvider time, string projectId, string workerRef, string baseUrl, TimeSpan lifetime, CancellationToken ct)
     {
         var active = await db.Sessions.FirstOrDefaultAsync(s => s.ProjectId == projectId && s.WorkerRef == workerRef && s.IsActive, ct);
         if (active is null) return null;
         var token = ApiKeys.NewSessionToken(active.Id);
         var hash = ApiKeys.Hash(token);
         await db.Sessions.Where(s => s.Id == active.Id).ExecuteUpdateAsync(u => u.SetProperty(s => s.TokenHash, hash), ct);
-        return new SessionStarted(active.Id, token, LaunchUrl(baseUrl, active.Id, token), active.Phase, active.Step, active.ModelVersion);
+        await LaunchCodes.ForgetAsync(db, time, active.Id, ct);
+        var launchUrl = LaunchCodes.Issue(db, time, baseUrl, active.Id, token, lifetime);
+        await db.SaveChangesAsync(ct);
+        return new SessionStarted(active.Id, token, launchUrl, active.Phase, active.Step, active.ModelVersion);
     }
-
-    private static string LaunchUrl(string baseUrl, string sessionId, string token) =>
-        $"{baseUrl}/annotate/{sessionId}#token={Uri.EscapeDataString(token)}";
 
     public static async Task<Results<Ok<NextItem>, ProblemHttpResult>> GetNext(
         string sessionId, TeachServeDb db, SessionEngine engine, SessionStateCache states, CancellationToken ct)

@@ -22,6 +22,34 @@ namespace TeachServe.Server.Persistence.Migrations.Postgres
 
             NpgsqlModelBuilderExtensions.UseIdentityByDefaultColumns(modelBuilder);
 
+            modelBuilder.Entity("TeachServe.Server.Annotate.LaunchCode", b =>
+                {
+                    b.Property<byte[]>("CodeHash")
+                        .HasMaxLength(32)
+                        .HasColumnType("bytea");
+
+                    b.Property<DateTimeOffset>("ExpiresAt")
+                        .HasColumnType("timestamp with time zone");
+
+                    b.Property<byte[]>("SealedToken")
+                        .IsRequired()
+                        .HasMaxLength(512)
+                        .HasColumnType("bytea");
+
+                    b.Property<string>("SessionId")
+                        .IsRequired()
+                        .HasMaxLength(40)
+                        .HasColumnType("character varying(40)");
+
+                    b.HasKey("CodeHash");
+
+                    b.HasIndex("ExpiresAt");
+
+                    b.HasIndex("SessionId");
+
+                    b.ToTable("LaunchCodes", (string)null);
+                });
+
             modelBuilder.Entity("TeachServe.Server.Events.SessionEvent", b =>
                 {
                     b.Property<long>("Id")
@@ -585,6 +613,15 @@ namespace TeachServe.Server.Persistence.Migrations.Postgres
                     b.HasIndex("ProjectId", "Id");
 
                     b.ToTable("Audit", (string)null);
+                });
+
+            modelBuilder.Entity("TeachServe.Server.Annotate.LaunchCode", b =>
+                {
+                    b.HasOne("TeachServe.Server.Sessions.Session", null)
+                        .WithMany()
+                        .HasForeignKey("SessionId")
+                        .OnDelete(DeleteBehavior.Cascade)
+                        .IsRequired();
                 });
 
             modelBuilder.Entity("TeachServe.Server.Events.SessionEvent", b =>

@@ -16,6 +16,34 @@ namespace TeachServe.Server.Persistence.Migrations.Sqlite
 #pragma warning disable 612, 618
             modelBuilder.HasAnnotation("ProductVersion", "10.0.15");
 
+            modelBuilder.Entity("TeachServe.Server.Annotate.LaunchCode", b =>
+                {
+                    b.Property<byte[]>("CodeHash")
+                        .HasMaxLength(32)
+                        .HasColumnType("BLOB");
+
+                    b.Property<long>("ExpiresAt")
+                        .HasColumnType("INTEGER");
+
+                    b.Property<byte[]>("SealedToken")
+                        .IsRequired()
+                        .HasMaxLength(512)
+                        .HasColumnType("BLOB");
+
+                    b.Property<string>("SessionId")
+                        .IsRequired()
+                        .HasMaxLength(40)
+                        .HasColumnType("TEXT");
+
+                    b.HasKey("CodeHash");
+
+                    b.HasIndex("ExpiresAt");
+
+                    b.HasIndex("SessionId");
+
+                    b.ToTable("LaunchCodes", (string)null);
+                });
+
             modelBuilder.Entity("TeachServe.Server.Events.SessionEvent", b =>
                 {
                     b.Property<long>("Id")
@@ -571,6 +599,15 @@ namespace TeachServe.Server.Persistence.Migrations.Sqlite
                     b.HasIndex("ProjectId", "Id");
 
                     b.ToTable("Audit", (string)null);
+                });
+
+            modelBuilder.Entity("TeachServe.Server.Annotate.LaunchCode", b =>
+                {
+                    b.HasOne("TeachServe.Server.Sessions.Session", null)
+                        .WithMany()
+                        .HasForeignKey("SessionId")
+                        .OnDelete(DeleteBehavior.Cascade)
+                        .IsRequired();
                 });
 
             modelBuilder.Entity("TeachServe.Server.Events.SessionEvent", b =>

@@ -1,0 +1,73 @@
+using Microsoft.AspNetCore.Http.HttpResults;
+using Microsoft.EntityFrameworkCore;
+using Microsoft.Extensions.Options;
+using TeachServe.Server.Auth;
+using TeachServe.Server.Infrastructure;
+using TeachServe.Server.Persistence;
+using TeachServe.Server.Projects;
+using TeachServe.Server.Sessions;
+using TeachServe.Server.Versions;
+
+namespace TeachServe.Server.Annotate;
+
+/// <summary>The two calls only the annotator page makes; answers go through the ordinary retry-safe answers API.</summary>
+public static class AnnotateApi
+{
+    public static RouteGroupBuilder MapAnnotateApi(this IEndpointRouteBuilder api)
+    {
+        var group = api.MapGroup("/").WithTags("Annotator page");
+        group.MapPost("/launch", Exchange)
+            .WithSummary("Trade the one-time code of a launch link for the session token (once; the code then stops working).");
+        group.MapGet("/sessions/{sessionId}/page", GetPageState).RequireKey(KeyRole.Session)
+            .WithSummary("The annotator page's view of the current step: progress, the item (SVG sanitised), or how the session ended.");
+        return group;
+    }
+
+    public static async Task<Ok<LaunchExchanged>> Exchange(
+        LaunchRequest body, HttpResponse response, TeachServeDb db, TimeProvider time, CancellationToken ct)
+    {
+        var (sessionId, token) = await LaunchCodes.RedeemAsync(db, time, body.Code, ct);
+        response.Headers.CacheControl = "no-store";
+        return TypedResults.Ok(new LaunchExchanged(sessionId, token));
+    }
+
+    public static async Task<Results<Ok<AnnotatorPageState>, ProblemHttpResult>> GetPageState(
+        string sessionId, TeachServeDb db, SessionEngine engine, SessionStateCache states, ModelVersionCache versions,
+        IOptions<AnnotateOptions> options, CancellationToken ct)
+    {
+        var next = await SessionsApi.GetNext(sessionId, db, engine, states, ct);
+        if (next.Result is not Ok<NextItem> { Value: { } current }) return (ProblemHttpResult)next.Result;
+        var session = await db.Sessions.AsNoTracking().FirstAsync(s => s.Id == sessionId, ct);
+        var version = await versions.GetAsync(session.ProjectId, session.ModelVersion, ct);
+        var view = SessionsApi.View(session, forAnnotator: true);
+        var gate = version.Settings.Gate;
+        // The ending's wording comes from the project as it is now, so an owner's edit reaches running sessions.
+        var project = await db.Projects.AsNoTracking().FirstAsync(p => p.Id == session.ProjectId, ct);
+        var completion = ProjectsApi.Settings(project).Completion;
+
+        PageItem? item = null;
+        if (current.Item is { } shown)
+        {
+            var c = shown.Content;
+            item = new PageItem(shown.Ref, c.Text, c.ImageUrl, c.Svg is { } svg ? SvgSanitizer.DataUri(svg) : null);
+        }
+        return TypedResults.Ok(new AnnotatorPageState
+        {
+            SessionId = sessionId,
+            ProjectName = project.Name,
+            Labels = version.Model.Labels,
+            Phase = current.Phase,
+            Step = current.Step,
+            ItemsTaught = view.ItemsTaught,
+            TestAnswered = view.TestAnswered,
+            PredictedError = view.PredictedError,
+            StartingError = version.Model.Summary.PriorExpectedError,
+            TargetError = gate.TargetError,
+            MaxTeachingItems = gate.MaxTeachingItems,
+            MaxTestItems = gate.Test.MaxItems,
+            Item = item,
+            End = PageStates.End(view, completion),
+            ParentOrigins = options.Value.FrameAncestors,
+        });
+    }
+}

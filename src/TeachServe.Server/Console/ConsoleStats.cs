@@ -1,0 +1,119 @@
+using System.Text.Json;
+using Microsoft.EntityFrameworkCore;
+using TeachServe.Core.Statistics;
+using TeachServe.Server.Events;
+using TeachServe.Server.Infrastructure;
+using TeachServe.Server.Persistence;
+using TeachServe.Server.Sessions;
+
+namespace TeachServe.Server.OwnerConsole;
+
+/// <summary>One recent session as the console lists it.</summary>
+public sealed record SessionRow(SessionView View, TimeSpan? Duration);
+
+/// <summary>Predicted error when teaching ended vs. the error observed on the held-out test, for one released annotator.</summary>
+public sealed record CalibrationPoint(string WorkerRef, double Predicted, double Observed, int TestAnswered);
+
+/// <summary>Mean predicted error after the n-th teaching answer, over the sessions that got that far.</summary>
+public sealed record CurvePoint(int TeachingStep, double MeanPredictedError, int Sessions);
+
+public sealed record OnboardingStats(
+    IReadOnlyDictionary<string, int> ByPhase,
+    int Released,
+    int Failed,
+    double? ReleaseRate,
+    Interval? ReleaseRateInterval,
+    double? MedianItemsToRelease,
+    TimeSpan? MedianTimeToRelease,
+    IReadOnlyList<int> ItemsToRelease,
+    IReadOnlyList<CalibrationPoint> Calibration,
+    IReadOnlyList<CurvePoint> LearningCurve,
+    IReadOnlyList<SessionRow> Recent,
+    int SessionsInPictures);
+
+/// <summary>
+/// The live onboarding figures of one project. Counts cover every session; medians cover the most recent
+/// <see cref="MaxEnded"/> ended sessions and the pictures the most recent <see cref="MaxForPictures"/> sessions, so the
+/// page stays fast on a busy project.
+/// </summary>
+public static class ConsoleStats
+{
+    public const int MaxEnded = 5000;
+    public const int MaxForPictures = 300;
+    public const int RecentRows = 25;
+
+    public static async Task<OnboardingStats> ComputeAsync(TeachServeDb db, string projectId, CancellationToken ct)
+    {
+        var sessions = db.Sessions.AsNoTracking().Where(s => s.ProjectId == projectId);
+        var byPhase = (await sessions.GroupBy(s => s.Phase).Select(g => new { g.Key, Count = g.Count() }).ToListAsync(ct))
+            .ToDictionary(g => g.Key, g => g.Count, StringComparer.Ordinal);
+        var released = byPhase.GetValueOrDefault(Phases.Released);
+        var failed = byPhase.GetValueOrDefault(Phases.Failed);
+
+        var releasedRows = await sessions.Where(s => s.Phase == Phases.Released)
+            .OrderByDescending(s => s.EndedAt).Take(MaxEnded)
+            .Select(s => new { s.Step, s.CreatedAt, s.EndedAt }).ToListAsync(ct);
+        var items = releasedRows.Select(r => r.Step).Order().ToList();
+        var minutes = releasedRows.Where(r => r.EndedAt is not null)
+            .Select(r => (r.EndedAt!.Value - r.CreatedAt).TotalMinutes).Order().ToList();
+
+        var recent = await sessions.OrderByDescending(s => s.CreatedAt).Take(MaxForPictures).ToListAsync(ct);
+        var (calibration, curve) = await PicturesAsync(db, recent, ct);
+        var rows = recent.Take(RecentRows)
+            .Select(s => new SessionRow(SessionsApi.View(s, forAnnotator: false), s.EndedAt is { } end ? end - s.CreatedAt : null))
+            .ToList();
+
+        var ended = released + failed;
+        Interval? interval = ended > 0 ? ProportionIntervals.Wilson(released, ended) : null;
+        return new OnboardingStats(
+            byPhase, released, failed,
+            ended > 0 ? (double)released / ended : null,
+            interval,
+            items.Count > 0 ? Median(items.Select(i => (double)i).ToList()) : null,
+            minutes.Count > 0 ? TimeSpan.FromMinutes(Median(minutes)) : null,
+            items, calibration, curve, rows, recent.Count);
+    }
+
+    /// <summary>Median of a sorted list; the mean of the middle two for an even count.</summary>
+    public static double Median(IReadOnlyList<double> sorted) =>
+        sorted.Count % 2 == 1 ? sorted[sorted.Count / 2] : (sorted[sorted.Count / 2 - 1] + sorted[sorted.Count / 2]) / 2;
+
+    private static async Task<(List<CalibrationPoint>, List<CurvePoint>)> PicturesAsync(
+        TeachServeDb db, List<Session> recent, CancellationToken ct)
+    {
+        var ids = recent.Select(s => s.Id).ToList();
+        var events = await db.Events.AsNoTracking()
+            .Where(e => e.Type == EventTypes.Answer && e.SessionId != null && ids.Contains(e.SessionId))
+            .OrderBy(e => e.SessionId).ThenBy(e => e.Step)
+            .Select(e => new { e.SessionId, e.DataJson }).ToListAsync(ct);
+
+        var sums = new List<(double Sum, int Count)>();
+        var lastTaught = new Dictionary<string, double>(StringComparer.Ordinal);
+        foreach (var group in events.GroupBy(e => e.SessionId!))
+        {
+            var step = 0;
+            foreach (var e in group)
+            {
+                using var doc = JsonDocument.Parse(e.DataJson);
+                var root = doc.RootElement;
+                if (root.GetProperty("phase").GetString() != Phases.Teaching) continue;
+                if (!root.GetProperty("response").TryGetProperty("predictedError", out var pe)) continue;
+                var value = pe.GetDouble();
+                if (sums.Count <= step) sums.Add((0, 0));
+                sums[step] = (sums[step].Sum + value, sums[step].Count + 1);
+                lastTaught[group.Key] = value;
+                step++;
+            }
+        }
+        var curve = sums.Select((s, i) => new CurvePoint(i + 1, s.Sum / s.Count, s.Count)).ToList();
+
+        var calibration = new List<CalibrationPoint>();
+        foreach (var s in recent.Where(s => s.Phase == Phases.Released && s.EvidenceJson is not null))
+        {
+            var evidence = Json.Deserialize<EvidenceView>(s.EvidenceJson!);
+            if (evidence.TestError is { } observed && lastTaught.TryGetValue(s.Id, out var predicted))
+                calibration.Add(new CalibrationPoint(s.WorkerRef, predicted, observed, evidence.TestAnswered));
+        }
+        return (calibration, curve);
+    }
+}
