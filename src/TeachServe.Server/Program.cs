@@ -50,6 +50,8 @@ builder.Services.AddScoped<IStartupStep>(sp => sp.GetRequiredService<VersionComp
 builder.Services.AddScoped<IStartupStep, DemoProject>();
 builder.Services.AddSingleton<SessionStateCache>();
 builder.Services.AddSingleton<SessionEngine>();
+builder.Services.AddSingleton<AnswerCommitLoop>();
+builder.Services.AddHostedService(sp => sp.GetRequiredService<AnswerCommitLoop>());
 builder.Services.AddScoped<AnswerWriter>();
 builder.Services.AddSingleton<OutboxSignal>();
 builder.Services.AddHttpClient(OutboxDispatcher.HttpClientName);
