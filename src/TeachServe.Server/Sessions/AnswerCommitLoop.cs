@@ -34,8 +34,9 @@ public sealed class PendingAnswer
 /// its step had already moved on (another node, or an earlier write of the same session in this very batch:
 /// the transaction sees its own updates, so the step check resolves the batch as if the writes ran one after
 /// another). One commit (one fsync) then carries many answers; while it runs, the next batch gathers.
-/// Every write still is its own unit: if a batch fails as a whole, its writes are retried one transaction each,
-/// so one bad write cannot fail the others. Provider-neutral: only EF Core operations.
+/// Every write still is its own unit: if a batch fails as a whole (a conflict with another node, or one bad
+/// write), its writes are retried one transaction each, so one cannot fail the others. Provider-neutral: only
+/// EF Core operations.
 /// </summary>
 public sealed partial class AnswerCommitLoop(IServiceScopeFactory scopes, ILogger<AnswerCommitLoop> logger) : BackgroundService
 {
@@ -60,7 +61,13 @@ public sealed partial class AnswerCommitLoop(IServiceScopeFactory scopes, ILogge
             {
                 batch.Clear();
                 while (batch.Count < MaxBatch && _queue.Reader.TryRead(out var next)) batch.Add(next);
+                var started = System.Diagnostics.Stopwatch.GetTimestamp();
                 await WriteBatchAsync(batch);
+                if (logger.IsEnabled(LogLevel.Debug))
+                {
+                    var elapsed = System.Diagnostics.Stopwatch.GetElapsedTime(started);
+                    LogBatch(logger, batch.Count, elapsed.TotalMilliseconds);
+                }
             }
         }
         catch (OperationCanceledException) when (stoppingToken.IsCancellationRequested)
@@ -79,16 +86,17 @@ public sealed partial class AnswerCommitLoop(IServiceScopeFactory scopes, ILogge
         bool[] written;
         try
         {
-            written = await WriteAsync(batch);
+            written = await WriteTogetherAsync(batch);
         }
-        catch (Exception e) when (batch.Count > 1)
+        catch (Exception e)
         {
-            LogBatchFailed(logger, batch.Count, e);
+            // A conflict with another node's write, or one bad write: every write again, in a transaction of its own.
+            if (e is not DbUpdateConcurrencyException) LogBatchFailed(logger, batch.Count, e);
             foreach (var one in batch)
             {
                 try
                 {
-                    one.Done.TrySetResult((await WriteAsync([one]))[0]);
+                    one.Done.TrySetResult(await WriteOneAsync(one));
                 }
                 catch (Exception single)
                 {
@@ -97,44 +105,71 @@ public sealed partial class AnswerCommitLoop(IServiceScopeFactory scopes, ILogge
             }
             return;
         }
-        catch (Exception e)
-        {
-            batch[0].Done.TrySetException(e);
-            return;
-        }
         for (var i = 0; i < batch.Count; i++) batch[i].Done.TrySetResult(written[i]);
     }
 
-    /// <summary>One transaction for all of <paramref name="batch"/>; nothing is acknowledged before it commits.</summary>
-    private async Task<bool[]> WriteAsync(IReadOnlyList<PendingAnswer> batch)
+    /// <summary>
+    /// One read of the batch's session rows, then one SaveChanges (one transaction, one commit) for all of it.
+    /// <see cref="Session.Step"/> is a concurrency token, so each UPDATE still carries "and the step is still the
+    /// one we read"; if another node moved a row since the read, the whole transaction fails and the batch is
+    /// retried write by write. Writes of one session in one batch are applied in order against the row as the
+    /// earlier ones left it, as if they had run one after another.
+    /// </summary>
+    private async Task<bool[]> WriteTogetherAsync(IReadOnlyList<PendingAnswer> batch)
     {
         using var scope = scopes.CreateScope();
         var db = scope.ServiceProvider.GetRequiredService<TeachServeDb>();
+        var ids = batch.Select(a => a.SessionId).Distinct(StringComparer.Ordinal).ToList();
+        var rows = await db.Sessions.Where(s => ids.Contains(s.Id)).ToDictionaryAsync(s => s.Id, StringComparer.Ordinal);
         var written = new bool[batch.Count];
-        await using var tx = await db.Database.BeginTransactionAsync();
         for (var i = 0; i < batch.Count; i++)
         {
             var a = batch[i];
-            var updated = await db.Sessions
-                .Where(s => s.Id == a.SessionId && s.Step == a.FromStep)
-                .ExecuteUpdateAsync(u => u
-                    .SetProperty(s => s.Step, a.ToStep)
-                    .SetProperty(s => s.Phase, a.Phase)
-                    .SetProperty(s => s.IsActive, a.IsActive)
-                    .SetProperty(s => s.PredictedError, a.PredictedError)
-                    .SetProperty(s => s.TaughtCount, a.TaughtCount)
-                    .SetProperty(s => s.TestAnswered, a.TestAnswered)
-                    .SetProperty(s => s.LastSeenAt, a.Now)
-                    .SetProperty(s => s.EndedAt, a.EndedAt)
-                    .SetProperty(s => s.EvidenceJson, a.EvidenceJson));
-            if (updated == 0) continue;
+            if (!rows.TryGetValue(a.SessionId, out var row) || row.Step != a.FromStep) continue;
+            row.Step = a.ToStep;
+            row.Phase = a.Phase;
+            row.IsActive = a.IsActive;
+            row.PredictedError = a.PredictedError;
+            row.TaughtCount = a.TaughtCount;
+            row.TestAnswered = a.TestAnswered;
+            row.LastSeenAt = a.Now;
+            row.EndedAt = a.EndedAt;
+            row.EvidenceJson = a.EvidenceJson;
+            foreach (var r in a.Rows) db.Add(r);
             written[i] = true;
-            foreach (var row in a.Rows) db.Add(row);
         }
         await db.SaveChangesAsync();
-        await tx.CommitAsync();
         return written;
     }
+
+    /// <summary>One write in its own transaction; false when the session's step has moved on.</summary>
+    private async Task<bool> WriteOneAsync(PendingAnswer a)
+    {
+        using var scope = scopes.CreateScope();
+        var db = scope.ServiceProvider.GetRequiredService<TeachServeDb>();
+        await using var tx = await db.Database.BeginTransactionAsync();
+        var updated = await db.Sessions
+            .Where(s => s.Id == a.SessionId && s.Step == a.FromStep)
+            .ExecuteUpdateAsync(u => u
+                .SetProperty(s => s.Step, a.ToStep)
+                .SetProperty(s => s.Phase, a.Phase)
+                .SetProperty(s => s.IsActive, a.IsActive)
+                .SetProperty(s => s.PredictedError, a.PredictedError)
+                .SetProperty(s => s.TaughtCount, a.TaughtCount)
+                .SetProperty(s => s.TestAnswered, a.TestAnswered)
+                .SetProperty(s => s.LastSeenAt, a.Now)
+                .SetProperty(s => s.EndedAt, a.EndedAt)
+                .SetProperty(s => s.EvidenceJson, a.EvidenceJson));
+        if (updated == 0) return false;
+        foreach (var r in a.Rows) db.Add(r);
+        await db.SaveChangesAsync();
+        await tx.CommitAsync();
+        return true;
+    }
+
+    /// <summary>Timing log for profiling the writer: <c>Logging__LogLevel__TeachServe.Server.Sessions.AnswerCommitLoop=Debug</c>.</summary>
+    [LoggerMessage(Level = LogLevel.Debug, Message = "Committed a batch of {Count} answers in {Milliseconds:0.0} ms")]
+    private static partial void LogBatch(ILogger logger, int count, double milliseconds);
 
     [LoggerMessage(Level = LogLevel.Warning, Message = "A batch of {Count} answers failed; writing them one by one")]
     private static partial void LogBatchFailed(ILogger logger, int count, Exception exception);
