@@ -26,7 +26,7 @@ public sealed partial class AnswerWriter(
     {
         if (request.Step < 0) throw ApiProblemException.BadRequest("'step' must be 0 or more.");
         using var held = await states.LockAsync(sessionId, ct);
-        var session = await db.Sessions.AsNoTracking().FirstOrDefaultAsync(s => s.Id == sessionId, ct)
+        var session = await HotQueries.SessionAsync(db, sessionId, ct)
             ?? throw ApiProblemException.NotFound("No such session.");
 
         if (request.Step < session.Step) return await ReplayedAsync(session, request, ct);

@@ -109,7 +109,7 @@ public static class SessionsApi
         string sessionId, TeachServeDb db, SessionEngine engine, SessionStateCache states, CancellationToken ct)
     {
         using var held = await states.LockAsync(sessionId, ct);
-        var session = await db.Sessions.AsNoTracking().FirstOrDefaultAsync(s => s.Id == sessionId, ct);
+        var session = await HotQueries.SessionAsync(db, sessionId, ct);
         if (session is null) return Problems.NotFound("No such session.");
         if (!session.IsActive) return TypedResults.Ok(new NextItem(session.Step, session.Phase, null));
         var (version, run) = await engine.LoadAsync(db, session, ct);
