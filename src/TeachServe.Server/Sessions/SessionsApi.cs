@@ -49,7 +49,7 @@ public static class SessionsApi
         TeachServeDb db, TimeProvider time, ModelVersionCache versions, SessionStateCache states,
         string projectId, string workerRef, string baseUrl, CancellationToken ct)
     {
-        if (await ResumeAsync(db, projectId, workerRef, baseUrl, ct) is { } resumed) return (false, resumed);
+        if (await ResumeAsync(db, time, projectId, workerRef, baseUrl, ct) is { } resumed) return (false, resumed);
 
         var number = await db.ModelVersions
             .Where(v => v.ProjectId == projectId && v.Status == VersionStatuses.Ready)
@@ -84,21 +84,26 @@ public static class SessionsApi
         {
             // A concurrent start for the same worker won (unique active index); hand out that session.
             db.ChangeTracker.Clear();
-            if (await ResumeAsync(db, projectId, workerRef, baseUrl, ct) is { } raced) return (false, raced);
+            if (await ResumeAsync(db, time, projectId, workerRef, baseUrl, ct) is { } raced) return (false, raced);
             throw;
         }
         states.Put(id, run);
         return (true, new SessionStarted(id, token, LaunchUrl(baseUrl, id, token), session.Phase, 0, version.Number));
     }
 
-    /// <summary>The worker's active session with a fresh token (tokens are stored hashed, so the old one cannot be shown again).</summary>
-    private static async Task<SessionStarted?> ResumeAsync(TeachServeDb db, string projectId, string workerRef, string baseUrl, CancellationToken ct)
+    /// <summary>
+    /// The worker's active session with a fresh token (tokens are stored hashed, so the old one cannot be shown
+    /// again). The new token starts a new idle period; otherwise an idle worker's new link would arrive expired.
+    /// </summary>
+    private static async Task<SessionStarted?> ResumeAsync(TeachServeDb db, TimeProvider time, string projectId, string workerRef, string baseUrl, CancellationToken ct)
     {
         var active = await db.Sessions.FirstOrDefaultAsync(s => s.ProjectId == projectId && s.WorkerRef == workerRef && s.IsActive, ct);
         if (active is null) return null;
         var token = ApiKeys.NewSessionToken(active.Id);
         var hash = ApiKeys.Hash(token);
-        await db.Sessions.Where(s => s.Id == active.Id).ExecuteUpdateAsync(u => u.SetProperty(s => s.TokenHash, hash), ct);
+        var now = time.GetUtcNow();
+        await db.Sessions.Where(s => s.Id == active.Id)
+            .ExecuteUpdateAsync(u => u.SetProperty(s => s.TokenHash, hash).SetProperty(s => s.LastSeenAt, now), ct);
         return new SessionStarted(active.Id, token, LaunchUrl(baseUrl, active.Id, token), active.Phase, active.Step, active.ModelVersion);
     }
 
