@@ -60,6 +60,7 @@ builder.Services.AddHostedService(sp => sp.GetRequiredService<OutboxDispatcher>(
 
 var app = builder.Build();
 
+app.UseSecurityHeaders();
 app.UseExceptionHandler();
 app.UseStatusCodePages();
 app.UseAuthentication();
