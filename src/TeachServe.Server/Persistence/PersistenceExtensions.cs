@@ -16,7 +16,8 @@ public static class PersistenceExtensions
     public static IServiceCollection AddPersistence(this IServiceCollection services)
     {
         services.AddDbContextPool<SqliteTeachServeDb>((sp, o) =>
-            o.UseSqlite(SqliteConnectionString(sp.GetRequiredService<IOptions<TeachServeOptions>>().Value)));
+            o.UseSqlite(SqliteConnectionString(sp.GetRequiredService<IOptions<TeachServeOptions>>().Value))
+                .AddInterceptors(new SqliteDurability()));
         services.AddDbContextPool<PostgresTeachServeDb>((sp, o) =>
             o.UseNpgsql(sp.GetRequiredService<IOptions<TeachServeOptions>>().Value.Database.ConnectionString));
         services.AddScoped<TeachServeDb>(sp =>
