@@ -55,6 +55,8 @@ builder.Services.AddScoped<IStartupStep>(sp => sp.GetRequiredService<VersionComp
 builder.Services.AddScoped<IStartupStep, DemoProject>();
 builder.Services.AddSingleton<SessionStateCache>();
 builder.Services.AddSingleton<SessionEngine>();
+builder.Services.AddSingleton<AnswerCommitLoop>();
+builder.Services.AddHostedService(sp => sp.GetRequiredService<AnswerCommitLoop>());
 builder.Services.AddScoped<AnswerWriter>();
 builder.Services.AddSingleton<OutboxSignal>();
 builder.Services.AddHttpClient(OutboxDispatcher.HttpClientName);
@@ -68,6 +70,7 @@ builder.Services.AddOwnerConsole();
 
 var app = builder.Build();
 
+app.UseSecurityHeaders();
 app.UseExceptionHandler();
 app.UseStatusCodePages();
 app.UseAuthentication();

@@ -35,8 +35,7 @@ public sealed class KeyResolver(TeachServeDb db, AdminKeyStore admin, TimeProvid
             default:
             {
                 if (!Ids.LooksLike(id, "ses_")) return KeyCheck.Invalid;
-                var s = await db.Sessions.AsNoTracking().Where(x => x.Id == id)
-                    .Select(x => new { x.TokenHash, x.ProjectId, x.LastSeenAt }).FirstOrDefaultAsync(ct);
+                var s = await Sessions.HotQueries.SessionKeyAsync(db, id!, ct);
                 if (s is null || !ApiKeys.Matches(key, s.TokenHash)) return KeyCheck.Invalid;
                 var now = time.GetUtcNow();
                 if (now - s.LastSeenAt > options.Value.SessionIdleTimeout) return KeyCheck.Expired;

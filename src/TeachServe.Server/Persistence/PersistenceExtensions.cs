@@ -10,13 +10,15 @@ public static class PersistenceExtensions
 
     /// <summary>
     /// Registers <see cref="TeachServeDb"/> as the context of the configured provider. The choice is made
-    /// when the first context is resolved, so configuration added by hosts and tests is honoured.
+    /// when the first context is resolved, so configuration added by hosts and tests is honoured. Contexts are
+    /// pooled: every request and every answer batch needs one, and a reset is cheaper than a new context.
     /// </summary>
     public static IServiceCollection AddPersistence(this IServiceCollection services)
     {
-        services.AddDbContext<SqliteTeachServeDb>((sp, o) =>
-            o.UseSqlite(SqliteConnectionString(sp.GetRequiredService<IOptions<TeachServeOptions>>().Value)));
-        services.AddDbContext<PostgresTeachServeDb>((sp, o) =>
+        services.AddDbContextPool<SqliteTeachServeDb>((sp, o) =>
+            o.UseSqlite(SqliteConnectionString(sp.GetRequiredService<IOptions<TeachServeOptions>>().Value))
+                .AddInterceptors(new SqliteDurability()));
+        services.AddDbContextPool<PostgresTeachServeDb>((sp, o) =>
             o.UseNpgsql(sp.GetRequiredService<IOptions<TeachServeOptions>>().Value.Database.ConnectionString));
         services.AddScoped<TeachServeDb>(sp =>
             sp.GetRequiredService<IOptions<TeachServeOptions>>().Value.Database.Provider == DatabaseProviders.Postgres

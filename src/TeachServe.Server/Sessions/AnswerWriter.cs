@@ -11,22 +11,22 @@ using TeachServe.Server.Webhooks;
 namespace TeachServe.Server.Sessions;
 
 /// <summary>
-/// The one write path of an answer. Under the session's lock: check the step, advance the engine, then in one
-/// transaction update the session row (only if its step is still the one we read: optimistic concurrency),
-/// append the answer event holding the exact response, and on the gate's decision the end event, the release
-/// and the webhook outbox row. The response is sent only after the commit, so an acknowledged answer is
-/// never lost, and a retry of the same step is answered from the stored event.
-/// Kept as one service so it can later become a single writer that commits many sessions' answers together.
+/// The one write path of an answer. Under the session's lock: check the step, advance the engine, then hand the
+/// rows to the single writer (<see cref="AnswerCommitLoop"/>), which in one transaction updates the session row
+/// (only if its step is still the one we read: optimistic concurrency), appends the answer event holding the
+/// exact response, and on the gate's decision the end event, the release and the webhook outbox row. The
+/// response is sent only after the commit, so an acknowledged answer is never lost, and a retry of the same
+/// step is answered from the stored event.
 /// </summary>
 public sealed partial class AnswerWriter(
-    TeachServeDb db, SessionEngine engine, SessionStateCache states, OutboxSignal outbox, TimeProvider time,
-    ILogger<AnswerWriter> logger)
+    TeachServeDb db, SessionEngine engine, SessionStateCache states, AnswerCommitLoop commits, OutboxSignal outbox,
+    TimeProvider time, ILogger<AnswerWriter> logger)
 {
     public async Task<AnswerResult> WriteAsync(string sessionId, AnswerRequest request, CancellationToken ct)
     {
         if (request.Step < 0) throw ApiProblemException.BadRequest("'step' must be 0 or more.");
         using var held = await states.LockAsync(sessionId, ct);
-        var session = await db.Sessions.AsNoTracking().FirstOrDefaultAsync(s => s.Id == sessionId, ct)
+        var session = await HotQueries.SessionAsync(db, sessionId, ct)
             ?? throw ApiProblemException.NotFound("No such session.");
 
         if (request.Step < session.Step) return await ReplayedAsync(session, request, ct);
@@ -53,39 +53,29 @@ public sealed partial class AnswerWriter(
         var evidenceJson = evidence is null ? null : SessionEngine.EvidenceJson(evidence);
         var phase = SessionEngine.PhaseName(run.Phase);
 
-        await using (var tx = await db.Database.BeginTransactionAsync(ct))
+        var rows = new List<object>
         {
-            var updated = await db.Sessions
-                .Where(s => s.Id == sessionId && s.Step == session.Step)
-                .ExecuteUpdateAsync(u => u
-                    .SetProperty(s => s.Step, run.Step)
-                    .SetProperty(s => s.Phase, phase)
-                    .SetProperty(s => s.IsActive, !ended)
-                    .SetProperty(s => s.PredictedError, outcome.WasTeaching || ended ? run.PredictedError : session.PredictedError)
-                    .SetProperty(s => s.TaughtCount, run.TaughtCount)
-                    .SetProperty(s => s.TestAnswered, run.TestAnswered)
-                    .SetProperty(s => s.LastSeenAt, now)
-                    .SetProperty(s => s.EndedAt, ended ? now : null)
-                    .SetProperty(s => s.EvidenceJson, evidenceJson), ct);
-            if (updated == 0)
-            {
-                // Another node answered this step first; its stored response decides.
-                await tx.RollbackAsync(ct);
-                return await ReplayedAsync(session, request, ct);
-            }
-
-            db.Events.Add(new SessionEvent
+            new SessionEvent
             {
                 ProjectId = session.ProjectId, SessionId = sessionId, WorkerRef = session.WorkerRef,
                 Type = EventTypes.Answer, Step = session.Step, At = now,
                 DataJson = Json.Serialize(new AnswerEventData(
                     item, version.Model.ItemIds[item], request.ItemRef, request.Label, labelIndex,
                     outcome.Correct, SessionEngine.PhaseName(phaseBefore), result)),
-            });
-            if (ended) await RecordEndAsync(session, version, phase, evidence!, evidenceJson!, run.Step, now, ct);
-            await db.SaveChangesAsync(ct);
-            await tx.CommitAsync(ct);
-        }
+            },
+        };
+        if (ended) await EndRowsAsync(rows, session, version, phase, evidence!, evidenceJson!, run.Step, now, ct);
+
+        // The lock stays held until the commit, so this node never has two writes of one session in flight.
+        var written = await commits.CommitAsync(new PendingAnswer
+        {
+            SessionId = sessionId, FromStep = session.Step, ToStep = run.Step, Phase = phase, IsActive = !ended,
+            PredictedError = outcome.WasTeaching || ended ? run.PredictedError : session.PredictedError,
+            TaughtCount = run.TaughtCount, TestAnswered = run.TestAnswered, Now = now,
+            EndedAt = ended ? now : null, EvidenceJson = evidenceJson, Rows = rows,
+        }, ct);
+        // Another node answered this step first; its stored response decides.
+        if (!written) return await ReplayedAsync(session, request, ct);
 
         states.Put(sessionId, run);
         if (ended)
@@ -96,27 +86,28 @@ public sealed partial class AnswerWriter(
         return result;
     }
 
-    private async Task RecordEndAsync(
-        Session session, CompiledVersion version, string phase, EvidenceView evidence, string evidenceJson,
+    private async Task EndRowsAsync(
+        List<object> rows, Session session, CompiledVersion version, string phase, EvidenceView evidence, string evidenceJson,
         int step, DateTimeOffset now, CancellationToken ct)
     {
         var type = phase == Phases.Released ? EventTypes.SessionReleased : EventTypes.SessionFailed;
-        db.Events.Add(new SessionEvent
+        rows.Add(new SessionEvent
         {
             ProjectId = session.ProjectId, SessionId = session.Id, WorkerRef = session.WorkerRef,
             Type = type, Step = step, At = now, DataJson = evidenceJson,
         });
         if (phase == Phases.Released)
         {
-            db.Releases.Add(new Release
+            rows.Add(new Release
             {
                 ProjectId = session.ProjectId, SessionId = session.Id, WorkerRef = session.WorkerRef,
                 ModelVersion = version.Number, ReleasedAt = now, EvidenceJson = evidenceJson,
             });
         }
         var project = await db.Projects.AsNoTracking().FirstAsync(p => p.Id == session.ProjectId, ct);
-        Outbox.Enqueue(db, project, session.Id, session.WorkerRef, new SessionEndedWebhook(
-            type, session.ProjectId, session.Id, session.WorkerRef, phase, version.Number, evidence, now));
+        if (Outbox.Message(project, session.Id, session.WorkerRef, new SessionEndedWebhook(
+                type, session.ProjectId, session.Id, session.WorkerRef, phase, version.Number, evidence, now)) is { } message)
+            rows.Add(message);
     }
 
     /// <summary>A step already answered: the same body gets the stored response, a different one 409.</summary>

@@ -116,7 +116,10 @@ public static class SessionsApi
         if (active is null) return null;
         var token = ApiKeys.NewSessionToken(active.Id);
         var hash = ApiKeys.Hash(token);
-        await db.Sessions.Where(s => s.Id == active.Id).ExecuteUpdateAsync(u => u.SetProperty(s => s.TokenHash, hash), ct);
+        // The new token starts a new idle period; otherwise an idle worker's new link would arrive expired.
+        var now = time.GetUtcNow();
+        await db.Sessions.Where(s => s.Id == active.Id)
+            .ExecuteUpdateAsync(u => u.SetProperty(s => s.TokenHash, hash).SetProperty(s => s.LastSeenAt, now), ct);
         await LaunchCodes.ForgetAsync(db, time, active.Id, ct);
         var launchUrl = LaunchCodes.Issue(db, time, baseUrl, active.Id, token, lifetime);
         await db.SaveChangesAsync(ct);
@@ -127,7 +130,7 @@ public static class SessionsApi
         string sessionId, TeachServeDb db, SessionEngine engine, SessionStateCache states, CancellationToken ct)
     {
         using var held = await states.LockAsync(sessionId, ct);
-        var session = await db.Sessions.AsNoTracking().FirstOrDefaultAsync(s => s.Id == sessionId, ct);
+        var session = await HotQueries.SessionAsync(db, sessionId, ct);
         if (session is null) return Problems.NotFound("No such session.");
         if (!session.IsActive) return TypedResults.Ok(new NextItem(session.Step, session.Phase, null));
         var (version, run) = await engine.LoadAsync(db, session, ct);

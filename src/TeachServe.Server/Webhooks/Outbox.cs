@@ -20,8 +20,12 @@ public static class Outbox
     /// <summary>Adds a delivery to the caller's unit of work, so it commits (or not) with its cause.</summary>
     public static void Enqueue(TeachServeDb db, Project project, string sessionId, string workerRef, SessionEndedWebhook payload)
     {
-        if (project.WebhookUrl is null) return;
-        db.Outbox.Add(new OutboxMessage
+        if (Message(project, sessionId, workerRef, payload) is { } message) db.Outbox.Add(message);
+    }
+
+    /// <summary>The delivery row for a project with a webhook (null without one), for a unit of work built elsewhere.</summary>
+    public static OutboxMessage? Message(Project project, string sessionId, string workerRef, SessionEndedWebhook payload) =>
+        project.WebhookUrl is null ? null : new OutboxMessage
         {
             ProjectId = project.Id,
             SessionId = sessionId,
@@ -32,6 +36,5 @@ public static class Outbox
             State = OutboxStates.Pending,
             CreatedAt = payload.OccurredAt,
             NextAttemptAt = payload.OccurredAt,
-        });
-    }
+        };
 }

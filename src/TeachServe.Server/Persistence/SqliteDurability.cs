@@ -1,0 +1,33 @@
+using System.Data.Common;
+using Microsoft.EntityFrameworkCore.Diagnostics;
+
+namespace TeachServe.Server.Persistence;
+
+/// <summary>
+/// Sets <c>PRAGMA synchronous=FULL</c> on every SQLite connection (the setting is per connection, not stored in
+/// the file). In WAL mode FULL syncs the write-ahead log at every commit, so a committed answer survives a process
+/// crash and also an operating-system crash or power loss. NORMAL would sync only at checkpoints: still safe
+/// against a process crash (the WAL is in the OS cache), but a power loss could take the last commits with it —
+/// answers that were already acknowledged. The answer writer commits many answers at once, so the one sync per
+/// batch is cheap enough to keep the stronger guarantee.
+/// </summary>
+public sealed class SqliteDurability : DbConnectionInterceptor
+{
+    public const string Pragma = "PRAGMA synchronous=FULL;";
+
+    public override void ConnectionOpened(DbConnection connection, ConnectionEndEventData eventData) => Apply(connection);
+
+    public override async Task ConnectionOpenedAsync(DbConnection connection, ConnectionEndEventData eventData, CancellationToken cancellationToken = default)
+    {
+        await using var command = connection.CreateCommand();
+        command.CommandText = Pragma;
+        await command.ExecuteNonQueryAsync(cancellationToken);
+    }
+
+    private static void Apply(DbConnection connection)
+    {
+        using var command = connection.CreateCommand();
+        command.CommandText = Pragma;
+        command.ExecuteNonQuery();
+    }
+}

@@ -1,0 +1,84 @@
+using System.Globalization;
+using System.Net;
+
+namespace TeachServe.Load;
+
+/// <summary>What one load run does; every loop in it is bounded by <see cref="Duration"/> and <see cref="MaxRequests"/>.</summary>
+public sealed record LoadOptions
+{
+    public Uri Url { get; init; } = new("http://127.0.0.1:5080");
+    /// <summary>With an admin key the harness creates its own project (whose truth it can read off the content).</summary>
+    public string? AdminKey { get; init; }
+    public string? ProjectId { get; init; }
+    public string? EmbedKey { get; init; }
+    public int Annotators { get; init; } = 64;
+    public TimeSpan Duration { get; init; } = TimeSpan.FromSeconds(20);
+    public TimeSpan Warmup { get; init; } = TimeSpan.FromSeconds(2);
+    public TimeSpan BaselineDuration { get; init; } = TimeSpan.FromSeconds(5);
+    public long MaxRequests { get; init; } = 2_000_000;
+    /// <summary>Chance that a simulated annotator answers with the true label (when it knows it); otherwise at random.</summary>
+    public double Honesty { get; init; } = 0.9;
+    public int Seed { get; init; } = 1;
+    public bool Json { get; init; }
+    /// <summary>Keep every acknowledged answer (for the crash test).</summary>
+    public bool RecordAcknowledged { get; init; }
+    /// <summary>Keep going after errors (for the crash test, where the server is killed mid-run).</summary>
+    public bool TolerateErrors { get; init; }
+
+    public const string Usage = """
+        teachserve-load [options]   simulated annotators against a running TeachServe server (loopback only)
+          --url URL               server address (default http://127.0.0.1:5080)
+          --admin-key KEY         create a project of its own with this admin key, or:
+          --project ID --embed-key KEY   start sessions in an existing project (answers at random)
+          --annotators N          concurrent simulated annotators (default 64)
+          --duration S            seconds of session load, after warm-up (default 20)
+          --warmup S              seconds of load before measuring (default 2)
+          --baseline S            seconds of /healthz with the same client and concurrency (default 5; 0 = none)
+          --max-requests N        stop after this many requests in all (default 2000000)
+          --honesty P             chance of answering with the true label when known (default 0.9)
+          --seed N                seed of the annotators' choices (default 1)
+          --json                  print the report as JSON
+        """;
+
+    public static LoadOptions Parse(string[] args)
+    {
+        var o = new LoadOptions();
+        for (var i = 0; i < args.Length; i++)
+        {
+            string Value() => i + 1 < args.Length ? args[++i] : throw new ArgumentException($"{args[i]} needs a value.");
+            double Number() => double.Parse(Value(), CultureInfo.InvariantCulture);
+            o = args[i] switch
+            {
+                "--url" => o with { Url = new Uri(Value()) },
+                "--admin-key" => o with { AdminKey = Value() },
+                "--project" => o with { ProjectId = Value() },
+                "--embed-key" => o with { EmbedKey = Value() },
+                "--annotators" => o with { Annotators = (int)Number() },
+                "--duration" => o with { Duration = TimeSpan.FromSeconds(Number()) },
+                "--warmup" => o with { Warmup = TimeSpan.FromSeconds(Number()) },
+                "--baseline" => o with { BaselineDuration = TimeSpan.FromSeconds(Number()) },
+                "--max-requests" => o with { MaxRequests = (long)Number() },
+                "--honesty" => o with { Honesty = Number() },
+                "--seed" => o with { Seed = (int)Number() },
+                "--json" => o with { Json = true },
+                _ => throw new ArgumentException($"Unknown option {args[i]}."),
+            };
+        }
+        o.Validate();
+        return o;
+    }
+
+    public void Validate()
+    {
+        if (!IsLoopback(Url)) throw new ArgumentException($"{Url} is not a loopback address; this harness only loads this machine.");
+        if (AdminKey is null && (ProjectId is null || EmbedKey is null))
+            throw new ArgumentException("Give --admin-key, or --project and --embed-key.");
+        if (Annotators is < 1 or > 1024) throw new ArgumentException("--annotators must be 1 to 1024.");
+        if (Duration <= TimeSpan.Zero || Duration > TimeSpan.FromHours(1)) throw new ArgumentException("--duration must be above 0 and at most 3600 s.");
+        if (Warmup < TimeSpan.Zero || BaselineDuration < TimeSpan.Zero) throw new ArgumentException("--warmup and --baseline cannot be negative.");
+        if (MaxRequests < 1) throw new ArgumentException("--max-requests must be at least 1.");
+    }
+
+    public static bool IsLoopback(Uri url) =>
+        url.IsLoopback || (IPAddress.TryParse(url.Host.Trim('[', ']'), out var ip) && IPAddress.IsLoopback(ip));
+}
