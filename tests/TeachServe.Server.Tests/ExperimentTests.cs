@@ -65,7 +65,7 @@ public sealed class ExperimentTests
         }
 
         var report = await Api.JsonAsync(await owner.GetAsync($"/api/v1/experiments/{id}/report"), 200);
-        // docs/research.md quotes a report from this run; set the variable to write one.
+        // README.md ("For researchers") quotes a report from this run; set the variable to write one.
         if (Environment.GetEnvironmentVariable("TEACHSERVE_SAMPLE_REPORT") is { Length: > 0 } sample)
             await File.WriteAllTextAsync(sample, report.ToJsonString(new System.Text.Json.JsonSerializerOptions { WriteIndented = true }));
 

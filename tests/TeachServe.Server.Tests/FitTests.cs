@@ -24,7 +24,7 @@ public sealed class FitTests
         // The learners are seeded, but the server draws each session's seed (the random policy's order) itself, so
         // this run is not fully reproducible: the ≥ 90 % coverage check lives in Core (LearnerFitRecoveryTests).
         // Here: the alpha profile interval (Wilks 1938, 95 %) covers the truth, and the lapse estimate is near it.
-        // Over HTTP the lapse came out high in every run seen so far (≈ 0.17–0.2 for 0.1), see docs/research.md.
+        // Over HTTP the lapse came out high in every run seen so far (≈ 0.17–0.2 for 0.1), see README.md, "For researchers", Caveats.
         var alphaInterval = fit["fit"]!["alphaProfile"]!["interval"]!;
         Assert.InRange(alpha, alphaInterval["low"]!.GetValue<double>(), alphaInterval["high"]?.GetValue<double>() ?? double.PositiveInfinity);
         Assert.InRange(fit["fit"]!["lapse"]!.GetValue<double>(), lapse - 0.08, lapse + 0.15);
