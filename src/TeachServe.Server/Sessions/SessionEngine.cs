@@ -33,7 +33,9 @@ public sealed class SessionEngine(ModelVersionCache versions, SessionStateCache 
     public static async Task<SessionRun> ReplayAsync(TeachServeDb db, CompiledVersion version, Session session, CancellationToken ct)
     {
         var data = await db.Events.AsNoTracking()
-            .Where(e => e.SessionId == session.Id && e.Type == EventTypes.Answer)
+            // Only the answers the session row has seen: on several nodes another node may have committed the next
+            // answer between reading the row and reading the events; its optimistic step check then decides.
+            .Where(e => e.SessionId == session.Id && e.Type == EventTypes.Answer && e.Step < session.Step)
             .OrderBy(e => e.Step).Select(e => e.DataJson).ToListAsync(ct);
         var labels = data.Select(d => JsonDocument.Parse(d).RootElement.GetProperty("labelIndex").GetInt32());
         var run = SessionRun.Replay(version.Model, Options(version, session), labels);
