@@ -44,6 +44,9 @@ builder.Services.AddOpenApi();
 // Persistence and start-up work.
 builder.Services.AddPersistence();
 builder.Services.AddSingleton<StartupState>();
+// The single writer starts first: the start-up tasks may already write through it (the demo project's session).
+builder.Services.AddSingleton<AnswerCommitLoop>();
+builder.Services.AddHostedService(sp => sp.GetRequiredService<AnswerCommitLoop>());
 builder.Services.AddSingleton(_ => new StartupBanner(Console.Out));
 builder.Services.AddHostedService<StartupTasks>();
 
@@ -54,9 +57,8 @@ builder.Services.AddHostedService(sp => sp.GetRequiredService<VersionCompileQueu
 builder.Services.AddScoped<IStartupStep>(sp => sp.GetRequiredService<VersionCompileQueue>());
 builder.Services.AddScoped<IStartupStep, DemoProject>();
 builder.Services.AddSingleton<SessionStateCache>();
+builder.Services.AddScoped<AuthenticatedSession>();
 builder.Services.AddSingleton<SessionEngine>();
-builder.Services.AddSingleton<AnswerCommitLoop>();
-builder.Services.AddHostedService(sp => sp.GetRequiredService<AnswerCommitLoop>());
 builder.Services.AddScoped<AnswerWriter>();
 builder.Services.AddSingleton<OutboxSignal>();
 builder.Services.AddHttpClient(OutboxDispatcher.HttpClientName);

@@ -32,10 +32,10 @@ public static class AnnotateApi
     }
 
     public static async Task<Results<Ok<AnnotatorPageState>, ProblemHttpResult>> GetPageState(
-        string sessionId, TeachServeDb db, SessionEngine engine, SessionStateCache states, ModelVersionCache versions,
-        IOptions<AnnotateOptions> options, CancellationToken ct)
+        string sessionId, TeachServeDb db, SessionEngine engine, SessionStateCache states, AuthenticatedSession authenticated,
+        ModelVersionCache versions, IOptions<AnnotateOptions> options, CancellationToken ct)
     {
-        var next = await SessionsApi.GetNext(sessionId, db, engine, states, ct);
+        var next = await SessionsApi.GetNext(sessionId, db, engine, states, authenticated, ct);
         if (next.Result is not Ok<NextItem> { Value: { } current }) return (ProblemHttpResult)next.Result;
         var session = await db.Sessions.AsNoTracking().FirstAsync(s => s.Id == sessionId, ct);
         var version = await versions.GetAsync(session.ProjectId, session.ModelVersion, ct);

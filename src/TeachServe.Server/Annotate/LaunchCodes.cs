@@ -21,15 +21,23 @@ public static class LaunchCodes
     /// <summary>Adds a new code for the session's current token to the context (the caller saves) and returns the launch URL.</summary>
     public static string Issue(TeachServeDb db, TimeProvider time, string baseUrl, string sessionId, string token, TimeSpan lifetime)
     {
+        var (url, row) = New(time, baseUrl, sessionId, token, lifetime);
+        db.Set<LaunchCode>().Add(row);
+        return url;
+    }
+
+    /// <summary>A new code for the session's current token, as a row to store and the launch URL that carries it.</summary>
+    public static (string Url, LaunchCode Row) New(TimeProvider time, string baseUrl, string sessionId, string token, TimeSpan lifetime)
+    {
         var code = Prefix + Base64Url.EncodeToString(RandomNumberGenerator.GetBytes(32));
-        db.Set<LaunchCode>().Add(new LaunchCode
+        var row = new LaunchCode
         {
             CodeHash = Hash(code),
             SessionId = sessionId,
             SealedToken = Seal(code, token),
             ExpiresAt = time.GetUtcNow() + lifetime,
-        });
-        return $"{baseUrl}/annotate/{sessionId}#code={code}";
+        };
+        return ($"{baseUrl}/annotate/{sessionId}#code={code}", row);
     }
 
     /// <summary>Drops the session's earlier codes (they seal a token that is being replaced) and every expired code.</summary>

@@ -16,7 +16,7 @@ namespace TeachServe.Server.Demo;
 /// </summary>
 public sealed partial class DemoProject(
     IOptions<TeachServeOptions> options, IConfiguration configuration, TimeProvider time,
-    ModelVersionCache versions, SessionStateCache states, ILogger<DemoProject> logger) : IStartupStep
+    ModelVersionCache versions, SessionStateCache states, AnswerCommitLoop writer, ILogger<DemoProject> logger) : IStartupStep
 {
     public const string Setting = "demo-project";
     public const string FolderName = "weld-seams";
@@ -64,7 +64,7 @@ public sealed partial class DemoProject(
         }
         versions.Put(compiled);
         // The demo link is read from the console later than a platform would hand one out: give it the token's lifetime.
-        var (_, session) = await SessionsApi.StartAsync(db, time, versions, states, project.Id, DemoWorker, baseUrl, ct, o.SessionIdleTimeout);
+        var (_, session) = await SessionsApi.StartAsync(db, time, versions, states, writer, project.Id, DemoWorker, baseUrl, ct, o.SessionIdleTimeout);
 
         banner.Add("Demo project", $"{project.Id}  ({definition.Settings.Name}, {definition.Items.Count} items, model version {record.Number})");
         banner.Add("Owner key", $"{keys.OwnerKey}   (shown once)");

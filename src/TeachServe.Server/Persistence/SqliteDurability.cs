@@ -1,4 +1,7 @@
 using System.Data.Common;
+using System.Runtime.CompilerServices;
+using Microsoft.Data.Sqlite;
+using SQLitePCL;
 using Microsoft.EntityFrameworkCore.Diagnostics;
 
 namespace TeachServe.Server.Persistence;
@@ -21,19 +24,29 @@ public sealed class SqliteDurability : DbConnectionInterceptor
 {
     public const string Pragma = "PRAGMA synchronous=FULL; PRAGMA busy_timeout=30000;";
 
-    public override void ConnectionOpened(DbConnection connection, ConnectionEndEventData eventData) => Apply(connection);
+    /// <summary>
+    /// Physical connections already set up. The provider pools them and EF opens one for every query, so the
+    /// pragmas run once per physical connection, not once per query.
+    /// </summary>
+    private static readonly ConditionalWeakTable<sqlite3, object> Applied = new();
+    private static readonly object Marker = new();
+
+    public override void ConnectionOpened(DbConnection connection, ConnectionEndEventData eventData)
+    {
+        if (!NeedsSetup(connection)) return;
+        using var command = connection.CreateCommand();
+        command.CommandText = Pragma;
+        command.ExecuteNonQuery();
+    }
 
     public override async Task ConnectionOpenedAsync(DbConnection connection, ConnectionEndEventData eventData, CancellationToken cancellationToken = default)
     {
+        if (!NeedsSetup(connection)) return;
         await using var command = connection.CreateCommand();
         command.CommandText = Pragma;
         await command.ExecuteNonQueryAsync(cancellationToken);
     }
 
-    private static void Apply(DbConnection connection)
-    {
-        using var command = connection.CreateCommand();
-        command.CommandText = Pragma;
-        command.ExecuteNonQuery();
-    }
+    private static bool NeedsSetup(DbConnection connection) =>
+        connection is not SqliteConnection { Handle: { } handle } || Applied.TryAdd(handle, Marker);
 }

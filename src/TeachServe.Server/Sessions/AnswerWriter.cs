@@ -20,13 +20,13 @@ namespace TeachServe.Server.Sessions;
 /// </summary>
 public sealed partial class AnswerWriter(
     TeachServeDb db, SessionEngine engine, SessionStateCache states, AnswerCommitLoop commits, OutboxSignal outbox,
-    TimeProvider time, ILogger<AnswerWriter> logger)
+    AuthenticatedSession authenticated, TimeProvider time, ILogger<AnswerWriter> logger)
 {
     public async Task<AnswerResult> WriteAsync(string sessionId, AnswerRequest request, CancellationToken ct)
     {
         if (request.Step < 0) throw ApiProblemException.BadRequest("'step' must be 0 or more.");
         using var held = await states.LockAsync(sessionId, ct);
-        var session = await HotQueries.SessionAsync(db, sessionId, ct)
+        var session = await authenticated.RowAsync(db, states, sessionId, ct)
             ?? throw ApiProblemException.NotFound("No such session.");
 
         if (request.Step < session.Step) return await ReplayedAsync(session, request, ct);

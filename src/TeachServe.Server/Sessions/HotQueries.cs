@@ -10,19 +10,10 @@ namespace TeachServe.Server.Sessions;
 /// </summary>
 public static class HotQueries
 {
-    public sealed record SessionKey(byte[] TokenHash, string ProjectId, DateTimeOffset LastSeenAt);
-
     private static readonly Func<SqliteTeachServeDb, string, CancellationToken, Task<Session?>> SqliteSession =
         EF.CompileAsyncQuery((SqliteTeachServeDb db, string id, CancellationToken ct) => db.Sessions.AsNoTracking().FirstOrDefault(s => s.Id == id));
     private static readonly Func<PostgresTeachServeDb, string, CancellationToken, Task<Session?>> PostgresSession =
         EF.CompileAsyncQuery((PostgresTeachServeDb db, string id, CancellationToken ct) => db.Sessions.AsNoTracking().FirstOrDefault(s => s.Id == id));
-
-    private static readonly Func<SqliteTeachServeDb, string, CancellationToken, Task<SessionKey?>> SqliteSessionKey =
-        EF.CompileAsyncQuery((SqliteTeachServeDb db, string id, CancellationToken ct) =>
-            db.Sessions.AsNoTracking().Where(s => s.Id == id).Select(s => new SessionKey(s.TokenHash, s.ProjectId, s.LastSeenAt)).FirstOrDefault());
-    private static readonly Func<PostgresTeachServeDb, string, CancellationToken, Task<SessionKey?>> PostgresSessionKey =
-        EF.CompileAsyncQuery((PostgresTeachServeDb db, string id, CancellationToken ct) =>
-            db.Sessions.AsNoTracking().Where(s => s.Id == id).Select(s => new SessionKey(s.TokenHash, s.ProjectId, s.LastSeenAt)).FirstOrDefault());
 
     /// <summary>The session row, untracked.</summary>
     public static Task<Session?> SessionAsync(TeachServeDb db, string id, CancellationToken ct) => db switch
@@ -30,13 +21,5 @@ public static class HotQueries
         SqliteTeachServeDb sqlite => SqliteSession(sqlite, id, ct),
         PostgresTeachServeDb postgres => PostgresSession(postgres, id, ct),
         _ => db.Sessions.AsNoTracking().FirstOrDefaultAsync(s => s.Id == id, ct),
-    };
-
-    /// <summary>What checking a session token needs.</summary>
-    public static Task<SessionKey?> SessionKeyAsync(TeachServeDb db, string id, CancellationToken ct) => db switch
-    {
-        SqliteTeachServeDb sqlite => SqliteSessionKey(sqlite, id, ct),
-        PostgresTeachServeDb postgres => PostgresSessionKey(postgres, id, ct),
-        _ => db.Sessions.AsNoTracking().Where(s => s.Id == id).Select(s => new SessionKey(s.TokenHash, s.ProjectId, s.LastSeenAt)).FirstOrDefaultAsync(ct),
     };
 }

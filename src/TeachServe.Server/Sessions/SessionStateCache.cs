@@ -32,6 +32,9 @@ public sealed class SessionStateCache
         return false;
     }
 
+    /// <summary>True if this node holds the session's state at a step after <paramref name="step"/>.</summary>
+    public bool HasLaterStep(string sessionId, int step) => _entries.TryGetValue(sessionId, out var entry) && entry.Step > step;
+
     public void Put(string sessionId, SessionRun run) => _entries[sessionId] = (run.Step, run);
 
     public void Evict(string sessionId) => _entries.TryRemove(sessionId, out _);

@@ -33,7 +33,7 @@ public static class SessionsApi
 
     public static async Task<Results<Created<SessionStarted>, Ok<SessionStarted>, ProblemHttpResult>> StartSession(
         string projectId, StartSessionRequest body, HttpRequest http, TeachServeDb db, TimeProvider time,
-        ModelVersionCache versions, SessionStateCache states, IOptions<TeachServeOptions> options,
+        ModelVersionCache versions, SessionStateCache states, AnswerCommitLoop writer, IOptions<TeachServeOptions> options,
         IOptions<AnnotateOptions> page, CancellationToken ct)
     {
         var workerRef = body.WorkerRef;
@@ -42,14 +42,14 @@ public static class SessionsApi
         if (!await db.Projects.AnyAsync(p => p.Id == projectId, ct)) return Problems.NotFound("No such project.");
 
         var baseUrl = options.Value.PublicBaseUrl?.TrimEnd('/') ?? $"{http.Scheme}://{http.Host}";
-        var (created, started) = await StartAsync(db, time, versions, states, projectId, workerRef, baseUrl, ct, page.Value.LaunchCodeLifetime);
+        var (created, started) = await StartAsync(db, time, versions, states, writer, projectId, workerRef, baseUrl, ct, page.Value.LaunchCodeLifetime);
         return created ? TypedResults.Created($"/api/v1/sessions/{started.SessionId}", started) : TypedResults.Ok(started);
     }
 
     /// <summary>Starts a session for the worker, or returns its active one (created = false).</summary>
     /// <param name="launchLifetime">How long the launch link's one-time code works (default: one hour).</param>
     public static async Task<(bool Created, SessionStarted Session)> StartAsync(
-        TeachServeDb db, TimeProvider time, ModelVersionCache versions, SessionStateCache states,
+        TeachServeDb db, TimeProvider time, ModelVersionCache versions, SessionStateCache states, AnswerCommitLoop writer,
         string projectId, string workerRef, string baseUrl, CancellationToken ct, TimeSpan? launchLifetime = null)
     {
         var lifetime = launchLifetime ?? new AnnotateOptions().LaunchCodeLifetime;
@@ -81,9 +81,8 @@ public static class SessionsApi
         var run = SessionRun.Start(version.Model, SessionEngine.Options(version, session));
         session.Phase = SessionEngine.PhaseName(run.Phase);
         session.PredictedError = run.PredictedError;
-        db.Sessions.Add(session);
-        var launchUrl = LaunchCodes.Issue(db, time, baseUrl, id, token, lifetime);
-        db.Events.Add(new SessionEvent
+        var (launchUrl, launchCode) = LaunchCodes.New(time, baseUrl, id, token, lifetime);
+        var started = new SessionEvent
         {
             ProjectId = projectId, SessionId = id, WorkerRef = workerRef, Type = EventTypes.SessionStarted, At = now,
             DataJson = Json.Serialize(new
@@ -92,15 +91,15 @@ public static class SessionsApi
                 experimentId = session.ExperimentId, arm = session.ArmIndex,
                 armName = session.ArmIndex is { } a ? Json.Deserialize<Core.Experiments.ArmDefinition>(session.ArmJson!).Name : null,
             }),
-        });
+        };
         try
         {
-            await db.SaveChangesAsync(ct);
+            // Through the single writer, like answers: one commit for many starts, and no wait for the write lock.
+            await writer.CommitAsync(new PendingRows { Rows = [session, launchCode, started] }, ct);
         }
         catch (DbUpdateException)
         {
             // A concurrent start for the same worker won (unique active index); hand out that session.
-            db.ChangeTracker.Clear();
             if (await ResumeAsync(db, time, projectId, workerRef, baseUrl, lifetime, ct) is { } raced) return (false, raced);
             throw;
         }
@@ -127,10 +126,11 @@ public static class SessionsApi
     }
 
     public static async Task<Results<Ok<NextItem>, ProblemHttpResult>> GetNext(
-        string sessionId, TeachServeDb db, SessionEngine engine, SessionStateCache states, CancellationToken ct)
+        string sessionId, TeachServeDb db, SessionEngine engine, SessionStateCache states, AuthenticatedSession authenticated,
+        CancellationToken ct)
     {
         using var held = await states.LockAsync(sessionId, ct);
-        var session = await HotQueries.SessionAsync(db, sessionId, ct);
+        var session = await authenticated.RowAsync(db, states, sessionId, ct);
         if (session is null) return Problems.NotFound("No such session.");
         if (!session.IsActive) return TypedResults.Ok(new NextItem(session.Step, session.Phase, null));
         var (version, run) = await engine.LoadAsync(db, session, ct);
