@@ -1,3 +1,4 @@
+using System.Data.Common;
 using System.Threading.Channels;
 using Microsoft.EntityFrameworkCore;
 using TeachServe.Server.Persistence;
@@ -44,10 +45,10 @@ public sealed class PendingRows : PendingWrite;
 /// it runs, the next batch gathers. Having one writer also means the hot path never waits for SQLite's write lock.
 /// <para>
 /// The session rows are not read first: each answer's UPDATE carries "and the step is still the one the request
-/// read" (<see cref="Session.Step"/> is a concurrency token), so if another node moved a row, the transaction
-/// fails as a whole. Every write still is its own unit: when a batch fails (that conflict, or one bad write such
-/// as a second active session for a worker), its writes are retried one transaction each, so one cannot fail the
-/// others. Provider-neutral: only EF Core operations.
+/// read" (<see cref="Session.Step"/> is the optimistic-concurrency token), and an answer that updates nothing
+/// appends nothing. Every write still is its own unit: when a batch fails (one bad write such as a second active
+/// session for a worker, or the database going away), its writes are retried one transaction each, so one cannot
+/// fail the others. The SQL comes from <see cref="WriterStatements"/>: prepared once, provider-neutral.
 /// </para>
 /// </summary>
 public sealed partial class AnswerCommitLoop(IServiceScopeFactory scopes, ILogger<AnswerCommitLoop> logger) : IHostedService, IDisposable
@@ -58,6 +59,7 @@ public sealed partial class AnswerCommitLoop(IServiceScopeFactory scopes, ILogge
     private readonly CancellationTokenSource _stopping = new();
     private Thread? _thread;
     private int _disposed;
+    private WriterStatements? _statements;
 
     /// <summary>Queues the write and completes after its commit: true if written, false if its step was taken.</summary>
     public async Task<bool> CommitAsync(PendingWrite write, CancellationToken ct)
@@ -117,6 +119,7 @@ public sealed partial class AnswerCommitLoop(IServiceScopeFactory scopes, ILogge
         }
         finally
         {
+            Reset();
             _queue.Writer.TryComplete();
             while (_queue.Reader.TryRead(out var left))
                 left.Done.TrySetException(new OperationCanceledException("The server is stopping."));
@@ -132,8 +135,10 @@ public sealed partial class AnswerCommitLoop(IServiceScopeFactory scopes, ILogge
         }
         catch (Exception e)
         {
-            // A conflict with another node's write, or one bad write: every write again, in a transaction of its own.
-            if (e is not DbUpdateConcurrencyException) LogBatchFailed(logger, batch.Count, e);
+            // One bad write (a second active session for a worker), or the database failing: drop the connection
+            // (it may be broken) and write every write again in a transaction of its own, so one cannot fail the others.
+            LogBatchFailed(logger, batch.Count, e);
+            Reset();
             foreach (var one in batch)
             {
                 try
@@ -142,7 +147,8 @@ public sealed partial class AnswerCommitLoop(IServiceScopeFactory scopes, ILogge
                 }
                 catch (Exception single)
                 {
-                    one.Done.TrySetException(single);
+                    Reset();
+                    one.Done.TrySetException(single is DbException ? new DbUpdateException("The write failed; nothing of it was stored.", single) : single);
                 }
             }
             return;
@@ -151,88 +157,41 @@ public sealed partial class AnswerCommitLoop(IServiceScopeFactory scopes, ILogge
     }
 
     /// <summary>
-    /// One SaveChanges (one transaction, one commit) for the whole batch. Writes of one session in one batch are
-    /// applied in order against the row as the earlier ones left it, as if they had run one after another.
+    /// One transaction, one commit for the whole batch. An answer whose session row is no longer at its step
+    /// (an earlier write of the same session in this very batch, or another node) updates nothing, and then its
+    /// rows are not appended: the batch resolves as if the writes had run one after another.
     /// </summary>
     private bool[] WriteTogether(IReadOnlyList<PendingWrite> batch)
     {
-        using var scope = scopes.CreateScope();
-        var db = scope.ServiceProvider.GetRequiredService<TeachServeDb>();
-        var rows = new Dictionary<string, Session>(StringComparer.Ordinal);
+        var sql = _statements ??= new WriterStatements(scopes);
         var written = new bool[batch.Count];
-        for (var i = 0; i < batch.Count; i++)
-        {
-            if (batch[i] is PendingAnswer a)
-            {
-                if (rows.TryGetValue(a.SessionId, out var row))
-                {
-                    if (row.Step != a.FromStep) continue;
-                }
-                else
-                {
-                    row = Attach(db, a.SessionId, a.FromStep);
-                    rows[a.SessionId] = row;
-                }
-                Apply(row, a);
-            }
-            foreach (var r in batch[i].Rows) db.Add(r);
-            written[i] = true;
-        }
-        db.SaveChanges();
+        using var tx = sql.Begin();
+        for (var i = 0; i < batch.Count; i++) written[i] = Apply(sql, batch[i], tx);
+        tx.Commit();
         return written;
-    }
-
-    /// <summary>
-    /// The session row as the writes expect to find it: only the key and the step (the concurrency token) are
-    /// known, and the summary columns are marked changed, so the UPDATE writes exactly those and checks the step.
-    /// </summary>
-    private static Session Attach(TeachServeDb db, string sessionId, int step)
-    {
-        var row = new Session
-        {
-            Id = sessionId, Step = step, ProjectId = "", WorkerRef = "", Phase = "", Policy = "", TokenHash = [], RefKey = [],
-        };
-        var entry = db.Sessions.Attach(row);
-        foreach (var name in SummaryColumns) entry.Property(name).IsModified = true;
-        return row;
-    }
-
-    private static readonly string[] SummaryColumns =
-    [
-        nameof(Session.Step), nameof(Session.Phase), nameof(Session.IsActive), nameof(Session.PredictedError),
-        nameof(Session.TaughtCount), nameof(Session.TestAnswered), nameof(Session.LastSeenAt), nameof(Session.EndedAt),
-        nameof(Session.EvidenceJson),
-    ];
-
-    private static void Apply(Session row, PendingAnswer a)
-    {
-        row.Step = a.ToStep;
-        row.Phase = a.Phase;
-        row.IsActive = a.IsActive;
-        row.PredictedError = a.PredictedError;
-        row.TaughtCount = a.TaughtCount;
-        row.TestAnswered = a.TestAnswered;
-        row.LastSeenAt = a.Now;
-        row.EndedAt = a.EndedAt;
-        row.EvidenceJson = a.EvidenceJson;
     }
 
     /// <summary>One write in its own transaction; false when the session's step has moved on (or the row is gone).</summary>
     private bool WriteOne(PendingWrite write)
     {
-        using var scope = scopes.CreateScope();
-        var db = scope.ServiceProvider.GetRequiredService<TeachServeDb>();
-        if (write is PendingAnswer a) Apply(Attach(db, a.SessionId, a.FromStep), a);
-        foreach (var r in write.Rows) db.Add(r);
-        try
-        {
-            db.SaveChanges();
-            return true;
-        }
-        catch (DbUpdateConcurrencyException) when (write is PendingAnswer)
-        {
-            return false;
-        }
+        var sql = _statements ??= new WriterStatements(scopes);
+        using var tx = sql.Begin();
+        var written = Apply(sql, write, tx);
+        tx.Commit();
+        return written;
+    }
+
+    private static bool Apply(WriterStatements sql, PendingWrite write, DbTransaction tx)
+    {
+        if (write is PendingAnswer answer && !sql.Update(answer, tx)) return false;
+        foreach (var row in write.Rows) sql.Insert(row, tx);
+        return true;
+    }
+
+    private void Reset()
+    {
+        _statements?.Dispose();
+        _statements = null;
     }
 
     /// <summary>Timing log for profiling the writer: <c>Logging__LogLevel__TeachServe.Server.Sessions.AnswerCommitLoop=Debug</c>.</summary>
