@@ -2,7 +2,12 @@
 # The compose topology on one machine without Docker: PostgreSQL, N server nodes on loopback ports, and
 # optionally nginx as a round-robin front (same proxy settings as deploy/nginx.conf).
 #
-#   deploy/local-cluster.sh start [--dir DIR] [--ports 5081,5082] [--front 5080]
+#   deploy/local-cluster.sh start [--dir DIR] [--ports 5081,5082] [--front 5080] [--balance session|round-robin]
+#
+# --balance session (default) sends all requests with the same Authorization header, so all of one annotator
+# session, to the same node (consistent hash): its in-memory state stays warm there, and another node takes over
+# from the database if that node goes. round-robin spreads every request (the cluster tests use it to make
+# sessions cross nodes).
 #   deploy/local-cluster.sh stop  [--dir DIR]
 #
 # Environment:
@@ -16,12 +21,13 @@ here=$(cd "$(dirname "$0")" && pwd)
 repo=$(cd "$here/.." && pwd)
 
 cmd=${1:-}; shift || true
-dir="$repo/.local-cluster"; ports="5081,5082"; front=""
+dir="$repo/.local-cluster"; ports="5081,5082"; front=""; balance="session"
 while [[ $# -gt 0 ]]; do
   case "$1" in
     --dir) dir=$2; shift 2 ;;
     --ports) ports=$2; shift 2 ;;
     --front) front=$2; shift 2 ;;
+    --balance) balance=$2; shift 2 ;;
     *) echo "local-cluster: unknown option $1" >&2; exit 2 ;;
   esac
 done
@@ -88,6 +94,11 @@ case "$cmd" in
       command -v nginx >/dev/null 2>&1 || [[ -x /usr/sbin/nginx ]] || { echo "local-cluster: nginx is not installed (apt-get install -y nginx)" >&2; exit 1; }
       mkdir -p "$dir/nginx/logs"
       upstreams=""
+      case "$balance" in
+        session) upstreams+="    hash \$http_authorization consistent;"$'\n' ;;
+        round-robin) ;;
+        *) echo "local-cluster: --balance is session or round-robin" >&2; exit 2 ;;
+      esac
       for port in ${ports//,/ }; do upstreams+="    server 127.0.0.1:$port max_fails=0;"$'\n'; done
       user_line=""; [[ $(id -u) -eq 0 ]] && user_line="user root;"
       cat > "$dir/nginx/nginx.conf" <<CONF
@@ -105,7 +116,9 @@ http {
   scgi_temp_path $dir/nginx/scgi;
   client_max_body_size 40m;
   upstream teachserve {
-$upstreams  }
+$upstreams    # Reuse connections to the nodes (a new TCP connection per proxied request costs more than the request).
+    keepalive 64;
+  }
   server {
     listen 127.0.0.1:$front;
     location / {

@@ -47,7 +47,8 @@ public sealed class Cluster : IAsyncDisposable
         int? frontPort = front ? FreePort() : null;
         var cluster = new Cluster(dir, ports, frontPort, database);
         var args = new List<string> { "start", "--dir", dir, "--ports", string.Join(',', ports) };
-        if (frontPort is { } f) args.AddRange(["--front", f.ToString(System.Globalization.CultureInfo.InvariantCulture)]);
+        // Round-robin, not the default session affinity: the tests want one session's requests to cross nodes.
+        if (frontPort is { } f) args.AddRange(["--front", f.ToString(System.Globalization.CultureInfo.InvariantCulture), "--balance", "round-robin"]);
         try
         {
             await Script.RunAsync("local-cluster.sh", args, TimeSpan.FromMinutes(3), new()

@@ -19,6 +19,11 @@ public sealed record LoadOptions
     /// <summary>Chance that a simulated annotator answers with the true label (when it knows it); otherwise at random.</summary>
     public double Honesty { get; init; } = 0.9;
     public int Seed { get; init; } = 1;
+    /// <summary>
+    /// Offered load in answer cycles per second over all annotators; null = closed loop (each annotator sends its
+    /// next request as soon as the last one is answered, which measures the most the server can do).
+    /// </summary>
+    public double? Rate { get; init; }
     public bool Json { get; init; }
     /// <summary>Keep every acknowledged answer (for the crash test).</summary>
     public bool RecordAcknowledged { get; init; }
@@ -37,6 +42,8 @@ public sealed record LoadOptions
           --max-requests N        stop after this many requests in all (default 2000000)
           --honesty P             chance of answering with the true label when known (default 0.9)
           --seed N                seed of the annotators' choices (default 1)
+          --rate R                pace the annotators to R answer cycles/s in all (default: as fast as answered);
+                                  latency then counts from when each cycle was due, so falling behind shows
           --json                  print the report as JSON
         """;
 
@@ -60,6 +67,7 @@ public sealed record LoadOptions
                 "--max-requests" => o with { MaxRequests = (long)Number() },
                 "--honesty" => o with { Honesty = Number() },
                 "--seed" => o with { Seed = (int)Number() },
+                "--rate" => o with { Rate = Number() },
                 "--json" => o with { Json = true },
                 _ => throw new ArgumentException($"Unknown option {args[i]}."),
             };
@@ -77,6 +85,7 @@ public sealed record LoadOptions
         if (Duration <= TimeSpan.Zero || Duration > TimeSpan.FromHours(1)) throw new ArgumentException("--duration must be above 0 and at most 3600 s.");
         if (Warmup < TimeSpan.Zero || BaselineDuration < TimeSpan.Zero) throw new ArgumentException("--warmup and --baseline cannot be negative.");
         if (MaxRequests < 1) throw new ArgumentException("--max-requests must be at least 1.");
+        if (Rate is { } r && (!(r > 0) || r > 1_000_000)) throw new ArgumentException("--rate must be above 0 and at most 1000000.");
     }
 
     public static bool IsLoopback(Uri url) =>

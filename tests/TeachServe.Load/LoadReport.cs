@@ -11,6 +11,7 @@ public sealed record EndpointFigures(string Endpoint, long Count, double PerSeco
 /// <summary>The result of one run: throughput, latency per endpoint, errors, and the ratio to the bare baseline.</summary>
 public sealed record LoadReport(
     int Annotators,
+    double? OfferedRate,
     double MeasuredSeconds,
     long AnswerCycles,
     double AnswerCyclesPerSecond,
@@ -35,7 +36,7 @@ public sealed record LoadReport(
         var errors = new SortedDictionary<string, long>(sessions.Errors, StringComparer.Ordinal);
         if (baseline is not null) foreach (var (k, v) in baseline.Errors) errors[k] = errors.GetValueOrDefault(k) + v;
         var rps = sessions.Requests / seconds;
-        return new LoadReport(options.Annotators, seconds, sessions.Cycles, sessions.Cycles / seconds, rps, sessions.SessionsEnded,
+        return new LoadReport(options.Annotators, options.Rate, seconds, sessions.Cycles, sessions.Cycles / seconds, rps, sessions.SessionsEnded,
             endpoints, base_, base_ is null ? null : rps / base_.PerSecond, errors);
     }
 
@@ -59,7 +60,8 @@ public sealed record LoadReport(
     {
         var s = new StringBuilder();
         var c = CultureInfo.InvariantCulture;
-        s.AppendLine(c, $"{Annotators} annotators, {MeasuredSeconds:0.0} s measured: {AnswerCyclesPerSecond:0} answer cycles/s, {RequestsPerSecond:0} requests/s, {SessionsEnded} sessions ended, {ErrorCount} errors");
+        var pace = OfferedRate is { } r ? string.Create(c, $" paced to {r:0} cycles/s,") : " closed loop,";
+        s.AppendLine(c, $"{Annotators} annotators,{pace} {MeasuredSeconds:0.0} s measured: {AnswerCyclesPerSecond:0} answer cycles/s, {RequestsPerSecond:0} requests/s, {SessionsEnded} sessions ended, {ErrorCount} errors");
         s.AppendLine("| endpoint | requests | per s | p50 ms | p95 ms | p99 ms | max ms |");
         s.AppendLine("|---|---:|---:|---:|---:|---:|---:|");
         foreach (var e in Baseline is null ? Endpoints : [.. Endpoints, Baseline])

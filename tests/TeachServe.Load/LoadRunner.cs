@@ -84,6 +84,8 @@ public sealed class LoadRunner(LoadOptions options, TextWriter log) : IDisposabl
         public long MeasureFrom { get; } = measureFrom;
         public Phase Result { get; } = new();
         public Random Random { get; } = new(index);
+        /// <summary>When the next answer cycle is due (paced runs only).</summary>
+        public long NextCycleAt { get; set; }
 
         public bool Measuring => Stopwatch.GetTimestamp() >= MeasureFrom;
 
@@ -178,11 +180,27 @@ public sealed class LoadRunner(LoadOptions options, TextWriter log) : IDisposabl
         // Bounded: a session has at most a few hundred steps; the phase deadline bounds it in time too.
         for (var i = 0; i < 10_000 && go(); i++)
         {
-            var (status, next) = await SendAsync(w, Next, HttpMethod.Get, $"/api/v1/sessions/{sessionId}/next", token, null, ct);
+            long? due = null;
+            if (options.Rate is { } rate)
+            {
+                // Each annotator's cycles are due every annotators/rate seconds, staggered by its index. A cycle
+                // that is late starts at once and its `next` latency counts from when it was due (no coordinated
+                // omission: a slow server cannot hide its queue by slowing the client down).
+                var interval = (long)(options.Annotators / rate * Stopwatch.Frequency);
+                var now = Stopwatch.GetTimestamp();
+                if (w.NextCycleAt == 0) w.NextCycleAt = now + interval * (w.Index % options.Annotators) / options.Annotators;
+                // A backlog from the warm-up (e.g. while the server's JIT was still compiling) is forgiven once.
+                if (!w.Measuring && w.NextCycleAt < now) w.NextCycleAt = now;
+                var wait = Stopwatch.GetElapsedTime(Stopwatch.GetTimestamp(), w.NextCycleAt);
+                if (wait > TimeSpan.Zero) await Task.Delay(wait, ct);
+                due = w.NextCycleAt;
+                w.NextCycleAt += interval;
+            }
+            var (status, next) = await SendAsync(w, Next, HttpMethod.Get, $"/api/v1/sessions/{sessionId}/next", token, null, ct, due);
             if (status != 200) return;
             if (next!["item"] is not JsonObject item)
             {
-                w.Result.SessionsEnded++;
+                if (w.Measuring) w.Result.SessionsEnded++;
                 return;
             }
             var step = next["step"]!.GetValue<int>();
@@ -196,7 +214,7 @@ public sealed class LoadRunner(LoadOptions options, TextWriter log) : IDisposabl
                 lock (_gate) _acknowledged.Add(new AcknowledgedAnswer(sessionId, step, itemRef, label, body!.ToJsonString()));
             if (body!["phase"]!.GetValue<string>() is "released" or "failed")
             {
-                w.Result.SessionsEnded++;
+                if (w.Measuring) w.Result.SessionsEnded++;
                 return;
             }
         }
@@ -217,13 +235,13 @@ public sealed class LoadRunner(LoadOptions options, TextWriter log) : IDisposabl
             : null;
 
     private async Task<(int Status, JsonNode? Body)> SendAsync(
-        Worker w, string endpoint, HttpMethod method, string path, string key, JsonObject? body, CancellationToken ct)
+        Worker w, string endpoint, HttpMethod method, string path, string key, JsonObject? body, CancellationToken ct, long? due = null)
     {
         Interlocked.Increment(ref _requests);
         using var request = new HttpRequestMessage(method, path);
         request.Headers.Authorization = new AuthenticationHeaderValue("Bearer", key);
         if (body is not null) request.Content = new StringContent(body.ToJsonString(), Encoding.UTF8, "application/json");
-        var t = Stopwatch.GetTimestamp();
+        var t = due ?? Stopwatch.GetTimestamp();
         try
         {
             using var response = await _http.SendAsync(request, ct);

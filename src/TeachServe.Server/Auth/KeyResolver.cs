@@ -8,7 +8,8 @@ namespace TeachServe.Server.Auth;
 
 /// <summary>Turns a presented bearer key into a principal, or says why it cannot.</summary>
 public sealed class KeyResolver(
-    TeachServeDb db, AdminKeyStore admin, TimeProvider time, IOptions<TeachServeOptions> options, Sessions.AuthenticatedSession authenticated)
+    TeachServeDb db, AdminKeyStore admin, TimeProvider time, IOptions<TeachServeOptions> options, Sessions.AuthenticatedSession authenticated,
+    Sessions.SqliteSessionReader sqliteReader)
 {
     /// <summary>A session's last-seen time is written at most this often by reads (answers always write it).</summary>
     private static readonly TimeSpan TouchInterval = TimeSpan.FromMinutes(1);
@@ -36,7 +37,7 @@ public sealed class KeyResolver(
             default:
             {
                 if (!Ids.LooksLike(id, "ses_")) return KeyCheck.Invalid;
-                var s = await Sessions.HotQueries.SessionAsync(db, id!, ct);
+                var s = await Sessions.HotQueries.SessionAsync(db, sqliteReader, id!, ct);
                 if (s is null || !ApiKeys.Matches(key, s.TokenHash)) return KeyCheck.Invalid;
                 var now = time.GetUtcNow();
                 if (now - s.LastSeenAt > options.Value.SessionIdleTimeout) return KeyCheck.Expired;

@@ -6,7 +6,7 @@ namespace TeachServe.Server.Sessions;
 /// The session row the token check of this request read (scoped to the request). The annotator endpoints use
 /// it instead of reading the row a second time; <see cref="RowAsync"/> says when it is still good.
 /// </summary>
-public sealed class AuthenticatedSession
+public sealed class AuthenticatedSession(SqliteSessionReader sqliteReader)
 {
     public Session? Row { get; set; }
 
@@ -20,6 +20,6 @@ public sealed class AuthenticatedSession
     {
         if (Row is { } row && string.Equals(row.Id, sessionId, StringComparison.Ordinal) && !states.HasLaterStep(sessionId, row.Step))
             return row;
-        return await HotQueries.SessionAsync(db, sessionId, ct);
+        return await HotQueries.SessionAsync(db, sqliteReader, sessionId, ct);
     }
 }
