@@ -105,21 +105,18 @@ public sealed class SqliteSessionReader(IServiceScopeFactory scopes) : IDisposab
     /// <summary>One open connection with its prepared command; used by one read at a time.</summary>
     private sealed class Lease : IDisposable
     {
-        private readonly IServiceScope _scope;
+        private readonly DedicatedConnection _open;
         private readonly DbCommand _command;
         private readonly DbParameter _id;
         private readonly Shape _shape;
 
         public Lease(IServiceScopeFactory scopes, SqliteSessionReader owner)
         {
-            _scope = scopes.CreateScope();
+            _open = new DedicatedConnection(scopes);
             try
             {
-                var db = _scope.ServiceProvider.GetRequiredService<TeachServeDb>();
-                _shape = owner._shape ??= Shape.Of(db);
-                // Opened through EF so the connection interceptor's pragmas run; EF leaves it open.
-                db.Database.OpenConnection();
-                _command = db.Database.GetDbConnection().CreateCommand();
+                _shape = owner._shape ??= Shape.Of(_open.Db);
+                _command = _open.Connection.CreateCommand();
                 _command.CommandText = _shape.Sql;
                 _id = _command.CreateParameter();
                 _id.ParameterName = "@id";
@@ -128,7 +125,7 @@ public sealed class SqliteSessionReader(IServiceScopeFactory scopes) : IDisposab
             }
             catch
             {
-                _scope.Dispose();
+                _open.Dispose();
                 throw;
             }
         }
@@ -143,7 +140,7 @@ public sealed class SqliteSessionReader(IServiceScopeFactory scopes) : IDisposab
         public void Dispose()
         {
             _command.Dispose();
-            _scope.Dispose();
+            _open.Dispose();
         }
     }
 }

@@ -18,7 +18,7 @@ namespace TeachServe.Server.Sessions;
 /// </summary>
 public sealed class WriterStatements : IDisposable
 {
-    private readonly IServiceScope _scope;
+    private readonly DedicatedConnection _open;
     private readonly TeachServeDb _db;
     private readonly DbConnection _connection;
     private readonly ISqlGenerationHelper _sql;
@@ -35,21 +35,11 @@ public sealed class WriterStatements : IDisposable
 
     public WriterStatements(IServiceScopeFactory scopes)
     {
-        _scope = scopes.CreateScope();
-        try
-        {
-            _db = _scope.ServiceProvider.GetRequiredService<TeachServeDb>();
-            _sql = _db.GetService<ISqlGenerationHelper>();
-            // Opened through EF so the connection interceptors (SQLite durability pragmas) run; EF leaves it open.
-            _db.Database.OpenConnection();
-            _connection = _db.Database.GetDbConnection();
-            _update = UpdateSummary();
-        }
-        catch
-        {
-            _scope.Dispose();
-            throw;
-        }
+        _open = new DedicatedConnection(scopes);
+        _db = _open.Db;
+        _connection = _open.Connection;
+        _sql = _db.GetService<ISqlGenerationHelper>();
+        _update = UpdateSummary();
     }
 
     public DbTransaction Begin() => _connection.BeginTransaction();
@@ -65,7 +55,7 @@ public sealed class WriterStatements : IDisposable
     /// <summary>Rewrites the session's summary if the row is still at the answer's step; false if it is not (or is gone).</summary>
     public bool Update(PendingAnswer answer, DbTransaction tx) => _update.Run(answer, tx) == 1;
 
-    public void Dispose() => _scope.Dispose();
+    public void Dispose() => _open.Dispose();
 
     private Statement InsertInto(Type clrType)
     {
