@@ -40,7 +40,21 @@ public sealed class LoadRunner(LoadOptions options, TextWriter log) : IDisposabl
     private readonly List<AcknowledgedAnswer> _acknowledged = [];
     private readonly List<StartedSession> _sessions = [];
 
+    private readonly List<(int Count, TaskCompletionSource Reached)> _ackWaiters = [];
+
     public IReadOnlyList<AcknowledgedAnswer> Acknowledged { get { lock (_gate) return _acknowledged.ToList(); } }
+
+    /// <summary>Completes once at least <paramref name="count"/> answers have been acknowledged (needs RecordAcknowledged).</summary>
+    public Task WhenAcknowledgedAsync(int count)
+    {
+        lock (_gate)
+        {
+            if (_acknowledged.Count >= count) return Task.CompletedTask;
+            var reached = new TaskCompletionSource(TaskCreationOptions.RunContinuationsAsynchronously);
+            _ackWaiters.Add((count, reached));
+            return reached.Task;
+        }
+    }
     public IReadOnlyList<StartedSession> Sessions { get { lock (_gate) return _sessions.ToList(); } }
     public string? ProjectId { get; private set; }
     public string? OwnerKey { get; private set; }
@@ -211,7 +225,11 @@ public sealed class LoadRunner(LoadOptions options, TextWriter log) : IDisposabl
             if (answered != 200) return;
             if (w.Measuring) w.Result.Cycles++;
             if (options.RecordAcknowledged)
-                lock (_gate) _acknowledged.Add(new AcknowledgedAnswer(sessionId, step, itemRef, label, body!.ToJsonString()));
+                lock (_gate)
+                {
+                    _acknowledged.Add(new AcknowledgedAnswer(sessionId, step, itemRef, label, body!.ToJsonString()));
+                    _ackWaiters.RemoveAll(w => _acknowledged.Count >= w.Count && w.Reached.TrySetResult());
+                }
             if (body!["phase"]!.GetValue<string>() is "released" or "failed")
             {
                 if (w.Measuring) w.Result.SessionsEnded++;
