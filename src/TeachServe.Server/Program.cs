@@ -58,7 +58,7 @@ builder.Services.AddScoped<IStartupStep>(sp => sp.GetRequiredService<VersionComp
 builder.Services.AddScoped<IStartupStep, DemoProject>();
 builder.Services.AddSingleton<SessionStateCache>();
 builder.Services.AddScoped<AuthenticatedSession>();
-builder.Services.AddSingleton<SqliteSessionReader>();
+builder.Services.AddSingleton(typeof(SqliteRowReader<>));
 builder.Services.AddSingleton<SessionEngine>();
 builder.Services.AddScoped<AnswerWriter>();
 builder.Services.AddSingleton<OutboxSignal>();

@@ -1,11 +1,12 @@
 using Microsoft.EntityFrameworkCore;
 using Microsoft.Extensions.DependencyInjection;
 using TeachServe.Server.Persistence;
+using TeachServe.Server.Projects;
 using TeachServe.Server.Sessions;
 
 namespace TeachServe.Server.Tests;
 
-/// <summary>The annotator hot path reads the session row without EF on SQLite; it must read exactly what EF reads.</summary>
+/// <summary>The annotator hot path reads rows by key without EF on SQLite; it must read exactly what EF reads.</summary>
 public sealed class HotReadTests
 {
     [Fact]
@@ -28,13 +29,35 @@ public sealed class HotReadTests
             .SetProperty(x => x.IsActive, false));
 
         var viaEf = await db.Sessions.AsNoTracking().SingleAsync(x => x.Id == s.SessionId);
-        var hot = await HotQueries.SessionAsync(db, app.Service<SqliteSessionReader>(), s.SessionId, CancellationToken.None);
+        var hot = await HotQueries.SessionAsync(db, app.Service<SqliteRowReader<Session>>(), s.SessionId, CancellationToken.None);
 
         Assert.NotNull(hot);
         foreach (var property in typeof(Session).GetProperties())
             Assert.Equal(property.GetValue(viaEf), property.GetValue(hot));
         // The SQLite model stores times through a binary converter that keeps about a millisecond; EF decides.
         Assert.InRange((hot.EndedAt!.Value - ended).Duration(), TimeSpan.Zero, TimeSpan.FromMilliseconds(1));
-        Assert.Null(await HotQueries.SessionAsync(db, app.Service<SqliteSessionReader>(), "ses_missing", CancellationToken.None));
+        Assert.Null(await HotQueries.SessionAsync(db, app.Service<SqliteRowReader<Session>>(), "ses_missing", CancellationToken.None));
+    }
+
+    [Fact]
+    public async Task The_hot_project_read_and_the_key_hashes_match_what_EF_reads()
+    {
+        using var app = new TestApp();
+        var keys = await app.ReadyProjectAsync();
+        using var scope = app.Services.CreateScope();
+        var db = scope.ServiceProvider.GetRequiredService<TeachServeDb>();
+        var rows = app.Service<SqliteRowReader<Project>>();
+
+        var viaEf = await db.Projects.AsNoTracking().SingleAsync(p => p.Id == keys.ProjectId);
+        var hot = await HotQueries.ProjectAsync(db, rows, keys.ProjectId, CancellationToken.None);
+        Assert.NotNull(hot);
+        foreach (var property in typeof(Project).GetProperties().Where(p => db.Model.FindEntityType(typeof(Project))!.FindProperty(p.Name) is not null))
+            Assert.Equal(property.GetValue(viaEf), property.GetValue(hot));
+
+        var hashes = await HotQueries.ProjectKeysAsync(db, rows, keys.ProjectId, CancellationToken.None);
+        Assert.Equal(viaEf.OwnerKeyHash, hashes!.OwnerKeyHash);
+        Assert.Equal(viaEf.EmbedKeyHash, hashes.EmbedKeyHash);
+        Assert.Null(await HotQueries.ProjectAsync(db, rows, "prj_missing", CancellationToken.None));
+        Assert.Null(await HotQueries.ProjectKeysAsync(db, rows, "prj_missing", CancellationToken.None));
     }
 }

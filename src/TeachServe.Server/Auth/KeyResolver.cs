@@ -9,7 +9,7 @@ namespace TeachServe.Server.Auth;
 /// <summary>Turns a presented bearer key into a principal, or says why it cannot.</summary>
 public sealed class KeyResolver(
     TeachServeDb db, AdminKeyStore admin, TimeProvider time, IOptions<TeachServeOptions> options, Sessions.AuthenticatedSession authenticated,
-    Sessions.SqliteSessionReader sqliteReader)
+    SqliteRowReader<Sessions.Session> sessionRows, SqliteRowReader<Projects.Project> projectRows)
 {
     /// <summary>A session's last-seen time is written at most this often by reads (answers always write it).</summary>
     private static readonly TimeSpan TouchInterval = TimeSpan.FromMinutes(1);
@@ -25,8 +25,7 @@ public sealed class KeyResolver(
             case ApiKeys.OwnerPrefix or ApiKeys.EmbedPrefix:
             {
                 if (!Ids.LooksLike(id, "prj_")) return KeyCheck.Invalid;
-                var hashes = await db.Projects.AsNoTracking().Where(p => p.Id == id)
-                    .Select(p => new { p.OwnerKeyHash, p.EmbedKeyHash }).FirstOrDefaultAsync(ct);
+                var hashes = await Sessions.HotQueries.ProjectKeysAsync(db, projectRows, id!, ct);
                 if (hashes is null) return KeyCheck.Invalid;
                 var owner = prefix == ApiKeys.OwnerPrefix;
                 return ApiKeys.Matches(key, owner ? hashes.OwnerKeyHash : hashes.EmbedKeyHash)
@@ -37,7 +36,7 @@ public sealed class KeyResolver(
             default:
             {
                 if (!Ids.LooksLike(id, "ses_")) return KeyCheck.Invalid;
-                var s = await Sessions.HotQueries.SessionAsync(db, sqliteReader, id!, ct);
+                var s = await Sessions.HotQueries.SessionAsync(db, sessionRows, id!, ct);
                 if (s is null || !ApiKeys.Matches(key, s.TokenHash)) return KeyCheck.Invalid;
                 var now = time.GetUtcNow();
                 if (now - s.LastSeenAt > options.Value.SessionIdleTimeout) return KeyCheck.Expired;

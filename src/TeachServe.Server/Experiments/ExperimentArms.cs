@@ -10,8 +10,7 @@ public static class ExperimentArms
 {
     public static async Task<AssignedArm?> AssignAsync(TeachServeDb db, string projectId, string workerRef, CancellationToken ct)
     {
-        var running = await db.Set<Experiment>().AsNoTracking()
-            .FirstOrDefaultAsync(e => e.ProjectId == projectId && e.Status == ExperimentStatuses.Running, ct);
+        var running = await Sessions.HotQueries.RunningExperimentAsync(db, projectId, ct);
         if (running is null) return null;
         var definition = Definition(running);
         var index = ArmAssignment.Assign(definition.Salt, workerRef, definition.AllocationWeights());

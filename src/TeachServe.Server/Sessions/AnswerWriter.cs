@@ -4,6 +4,7 @@ using TeachServe.Core.Teaching;
 using TeachServe.Server.Events;
 using TeachServe.Server.Infrastructure;
 using TeachServe.Server.Persistence;
+using TeachServe.Server.Projects;
 using TeachServe.Server.Releases;
 using TeachServe.Server.Versions;
 using TeachServe.Server.Webhooks;
@@ -20,7 +21,7 @@ namespace TeachServe.Server.Sessions;
 /// </summary>
 public sealed partial class AnswerWriter(
     TeachServeDb db, SessionEngine engine, SessionStateCache states, AnswerCommitLoop commits, OutboxSignal outbox,
-    AuthenticatedSession authenticated, TimeProvider time, ILogger<AnswerWriter> logger)
+    AuthenticatedSession authenticated, SqliteRowReader<Project> projectRows, TimeProvider time, ILogger<AnswerWriter> logger)
 {
     public async Task<AnswerResult> WriteAsync(string sessionId, AnswerRequest request, CancellationToken ct)
     {
@@ -64,7 +65,7 @@ public sealed partial class AnswerWriter(
                     outcome.Correct, SessionEngine.PhaseName(phaseBefore), result)),
             },
         };
-        if (ended) await EndRowsAsync(rows, session, version, phase, evidence!, evidenceJson!, run.Step, now, ct);
+        var webhook = ended && await EndRowsAsync(rows, session, version, phase, evidence!, evidenceJson!, run.Step, now, ct);
 
         // The lock stays held until the commit, so this node never has two writes of one session in flight.
         var written = await commits.CommitAsync(new PendingAnswer
@@ -80,13 +81,14 @@ public sealed partial class AnswerWriter(
         states.Put(sessionId, run);
         if (ended)
         {
-            outbox.Notify();
+            if (webhook) outbox.Notify();
             LogEnded(logger, sessionId, phase, run.Step);
         }
         return result;
     }
 
-    private async Task EndRowsAsync(
+    /// <summary>Adds the end event, the release and the webhook delivery to the rows; true if a delivery was added.</summary>
+    private async Task<bool> EndRowsAsync(
         List<object> rows, Session session, CompiledVersion version, string phase, EvidenceView evidence, string evidenceJson,
         int step, DateTimeOffset now, CancellationToken ct)
     {
@@ -104,10 +106,13 @@ public sealed partial class AnswerWriter(
                 ModelVersion = version.Number, ReleasedAt = now, EvidenceJson = evidenceJson,
             });
         }
-        var project = await db.Projects.AsNoTracking().FirstAsync(p => p.Id == session.ProjectId, ct);
+        var project = await HotQueries.ProjectAsync(db, projectRows, session.ProjectId, ct)
+            ?? throw new InvalidOperationException($"Session {session.Id} belongs to no project.");
         if (Outbox.Message(project, session.Id, session.WorkerRef, new SessionEndedWebhook(
-                type, session.ProjectId, session.Id, session.WorkerRef, phase, version.Number, evidence, now)) is { } message)
-            rows.Add(message);
+                type, session.ProjectId, session.Id, session.WorkerRef, phase, version.Number, evidence, now)) is not { } message)
+            return false;
+        rows.Add(message);
+        return true;
     }
 
     /// <summary>A step already answered: the same body gets the stored response, a different one 409.</summary>

@@ -6,7 +6,7 @@ namespace TeachServe.Server.Sessions;
 /// The session row the token check of this request read (scoped to the request). The annotator endpoints use
 /// it instead of reading the row a second time; <see cref="RowAsync"/> says when it is still good.
 /// </summary>
-public sealed class AuthenticatedSession(SqliteSessionReader sqliteReader)
+public sealed class AuthenticatedSession(SqliteRowReader<Session> sqliteReader)
 {
     public Session? Row { get; set; }
 

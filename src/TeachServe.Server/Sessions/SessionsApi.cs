@@ -39,7 +39,7 @@ public static class SessionsApi
         var workerRef = body.WorkerRef;
         if (workerRef.Length is 0 or > SessionLimits.WorkerRefLength || workerRef.Any(char.IsControl))
             return Problems.Unprocessable($"'workerRef' must be 1 to {SessionLimits.WorkerRefLength} printable characters.");
-        if (!await db.Projects.AnyAsync(p => p.Id == projectId, ct)) return Problems.NotFound("No such project.");
+        // The project exists: the key check has just read its row, and the key filter has matched it to the route.
 
         var baseUrl = options.Value.PublicBaseUrl?.TrimEnd('/') ?? $"{http.Scheme}://{http.Host}";
         var (created, started) = await StartAsync(db, time, versions, states, writer, projectId, workerRef, baseUrl, ct, page.Value.LaunchCodeLifetime);
@@ -55,9 +55,7 @@ public static class SessionsApi
         var lifetime = launchLifetime ?? new AnnotateOptions().LaunchCodeLifetime;
         if (await ResumeAsync(db, time, projectId, workerRef, baseUrl, lifetime, ct) is { } resumed) return (false, resumed);
 
-        var number = await db.ModelVersions
-            .Where(v => v.ProjectId == projectId && v.Status == VersionStatuses.Ready)
-            .MaxAsync(v => (int?)v.Number, ct)
+        var number = await HotQueries.NewestReadyVersionAsync(db, projectId, ct)
             ?? throw ApiProblemException.Conflict("The project has no ready model version yet; the owner compiles one with POST /versions.");
         var version = await versions.GetAsync(projectId, number, ct);
 
@@ -111,7 +109,7 @@ public static class SessionsApi
     private static async Task<SessionStarted?> ResumeAsync(
         TeachServeDb db, TimeProvider time, string projectId, string workerRef, string baseUrl, TimeSpan lifetime, CancellationToken ct)
     {
-        var active = await db.Sessions.FirstOrDefaultAsync(s => s.ProjectId == projectId && s.WorkerRef == workerRef && s.IsActive, ct);
+        var active = await HotQueries.ActiveSessionAsync(db, projectId, workerRef, ct);
         if (active is null) return null;
         var token = ApiKeys.NewSessionToken(active.Id);
         var hash = ApiKeys.Hash(token);

@@ -5,19 +5,18 @@ using Microsoft.EntityFrameworkCore;
 using Microsoft.EntityFrameworkCore.Infrastructure;
 using Microsoft.EntityFrameworkCore.Metadata;
 using Microsoft.EntityFrameworkCore.Storage;
-using TeachServe.Server.Persistence;
-
-namespace TeachServe.Server.Sessions;
+namespace TeachServe.Server.Persistence;
 
 /// <summary>
-/// The session-row read of every annotator request on SQLite, without EF's per-query work: a pool of open
+/// A read of one row by its (single, string) primary key on SQLite, without EF's per-query work: a pool of open
 /// connections, each with the SELECT prepared once, and a materializer built from the EF model (so the model
-/// stays the one description of the columns). Profiling the load harness showed the EF compiled query at about
-/// 90 µs of CPU a read, most of it opening and closing the pooled connection and SQLite parsing the same SQL again;
-/// here a read is a bind, a B-tree lookup and the column reads. SQLite connections are in-process and cheap to
-/// keep open; on PostgreSQL, whose connections are server processes, the EF query and Npgsql's pool are used.
+/// stays the one description of the columns). Used for the reads of the annotator paths: the session row on every
+/// request, the project row at every session start and end. Profiling the load harness showed an EF compiled query
+/// at about 90–170 µs of CPU a read, most of it opening and closing the pooled connection and SQLite parsing the
+/// same SQL again; here a read is a bind, a B-tree lookup and the column reads. SQLite connections are in-process
+/// and cheap to keep open; on PostgreSQL, whose connections are server processes, EF and Npgsql's pool are used.
 /// </summary>
-public sealed class SqliteSessionReader(IServiceScopeFactory scopes) : IDisposable
+public sealed class SqliteRowReader<TEntity>(IServiceScopeFactory scopes) : IDisposable where TEntity : class
 {
     /// <summary>At most this many idle connections are kept; more concurrent reads open and then close their own.</summary>
     public const int MaxIdle = 64;
@@ -26,14 +25,14 @@ public sealed class SqliteSessionReader(IServiceScopeFactory scopes) : IDisposab
     private int _idleCount;
     private Shape? _shape;
 
-    public Session? Read(string sessionId)
+    public TEntity? Read(string key)
     {
         if (!_idle.TryTake(out var lease)) lease = new Lease(scopes, this);
         else Interlocked.Decrement(ref _idleCount);
-        Session? row;
+        TEntity? row;
         try
         {
-            row = lease.Read(sessionId);
+            row = lease.Read(key);
         }
         catch
         {
@@ -58,18 +57,23 @@ public sealed class SqliteSessionReader(IServiceScopeFactory scopes) : IDisposab
     private sealed class Shape
     {
         public required string Sql { get; init; }
-        public required Func<DbDataReader, Session> Materialize { get; init; }
+        public required Func<DbDataReader, TEntity> Materialize { get; init; }
 
         public static Shape Of(TeachServeDb db)
         {
-            var entity = db.Model.FindEntityType(typeof(Session))!;
+            var entity = db.Model.FindEntityType(typeof(TEntity))
+                ?? throw new InvalidOperationException($"{typeof(TEntity).Name} is not an entity of the model.");
             var table = StoreObjectIdentifier.Table(entity.GetTableName()!, entity.GetSchema());
             var sql = db.GetService<ISqlGenerationHelper>();
-            var properties = entity.GetProperties().ToList();
+            // Shadow properties have no CLR member to fill; the entities read this way have none.
+            var properties = entity.GetProperties().Where(p => p.PropertyInfo is not null).ToList();
             var columns = string.Join(", ", properties.Select(p => sql.DelimitIdentifier(p.GetColumnName(table)!)));
-            var key = sql.DelimitIdentifier(entity.FindProperty(nameof(Session.Id))!.GetColumnName(table)!);
+            var keyProperty = entity.FindPrimaryKey()?.Properties is [{ ClrType: var keyType } only] && keyType == typeof(string)
+                ? only
+                : throw new InvalidOperationException($"{typeof(TEntity).Name} needs a single string primary key to be read by key.");
+            var key = sql.DelimitIdentifier(keyProperty.GetColumnName(table)!);
 
-            // new Session { Id = r.GetFieldValue<string>(0), ..., EndedAt = r.IsDBNull(k) ? null : r.GetFieldValue<DateTimeOffset>(k) }
+            // new TEntity { Id = r.GetFieldValue<string>(0), ..., EndedAt = r.IsDBNull(k) ? null : r.GetFieldValue<DateTimeOffset>(k) }
             var r = Expression.Parameter(typeof(DbDataReader), "r");
             var getFieldValue = typeof(DbDataReader).GetMethod(nameof(DbDataReader.GetFieldValue))!;
             var isDbNull = typeof(DbDataReader).GetMethod(nameof(DbDataReader.IsDBNull))!;
@@ -93,11 +97,11 @@ public sealed class SqliteSessionReader(IServiceScopeFactory scopes) : IDisposab
                     value = Expression.Condition(Expression.Call(r, isDbNull, Expression.Constant(i)), Expression.Default(type), value);
                 return (MemberBinding)Expression.Bind(p.PropertyInfo!, value);
             });
-            var body = Expression.MemberInit(Expression.New(typeof(Session)), bindings);
+            var body = Expression.MemberInit(Expression.New(typeof(TEntity)), bindings);
             return new Shape
             {
                 Sql = $"SELECT {columns} FROM {sql.DelimitIdentifier(table.Name, table.Schema)} WHERE {key} = {sql.GenerateParameterName("id")}",
-                Materialize = Expression.Lambda<Func<DbDataReader, Session>>(body, r).Compile(),
+                Materialize = Expression.Lambda<Func<DbDataReader, TEntity>>(body, r).Compile(),
             };
         }
     }
@@ -110,7 +114,7 @@ public sealed class SqliteSessionReader(IServiceScopeFactory scopes) : IDisposab
         private readonly DbParameter _id;
         private readonly Shape _shape;
 
-        public Lease(IServiceScopeFactory scopes, SqliteSessionReader owner)
+        public Lease(IServiceScopeFactory scopes, SqliteRowReader<TEntity> owner)
         {
             _open = new DedicatedConnection(scopes);
             try
@@ -130,9 +134,9 @@ public sealed class SqliteSessionReader(IServiceScopeFactory scopes) : IDisposab
             }
         }
 
-        public Session? Read(string sessionId)
+        public TEntity? Read(string key)
         {
-            _id.Value = sessionId;
+            _id.Value = key;
             using var reader = _command.ExecuteReader();
             return reader.Read() ? _shape.Materialize(reader) : null;
         }
