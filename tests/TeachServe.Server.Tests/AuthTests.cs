@@ -31,6 +31,21 @@ public sealed class AuthTests
     }
 
     [Fact]
+    public async Task Starting_a_session_in_a_missing_project_is_404_for_every_key_that_may_start_one()
+    {
+        using var app = new TestApp();
+        var a = await app.ReadyProjectAsync();
+        var body = new { workerRef = "w1" };
+        // A project's own keys name their project, so another id is a project they cannot see.
+        await Api.ProblemAsync(await app.Client(a.EmbedKey).PostAsJsonAsync("/api/v1/projects/prj_missing/sessions", body), 404);
+        await Api.ProblemAsync(await app.Client(a.OwnerKey).PostAsJsonAsync("/api/v1/projects/prj_missing/sessions", body), 404);
+        // The admin key is of no project: the project itself is looked up.
+        var admin = await Api.ProblemAsync(await app.Client(TestApp.AdminKey).PostAsJsonAsync("/api/v1/projects/prj_missing/sessions", body), 404);
+        Assert.Equal("No such project.", admin["detail"]!.GetValue<string>());
+        await Api.JsonAsync(await app.Client(TestApp.AdminKey).PostAsJsonAsync($"/api/v1/projects/{a.ProjectId}/sessions", body), 201);
+    }
+
+    [Fact]
     public async Task Session_tokens_expire_after_the_idle_time()
     {
         using var app = new TestApp(new() { ["TeachServe:SessionIdleTimeout"] = "00:30:00" });

@@ -34,12 +34,15 @@ public static class SessionsApi
     public static async Task<Results<Created<SessionStarted>, Ok<SessionStarted>, ProblemHttpResult>> StartSession(
         string projectId, StartSessionRequest body, HttpRequest http, TeachServeDb db, TimeProvider time,
         ModelVersionCache versions, SessionStateCache states, AnswerCommitLoop writer, IOptions<TeachServeOptions> options,
-        IOptions<AnnotateOptions> page, CancellationToken ct)
+        IOptions<AnnotateOptions> page, SqliteRowReader<Projects.Project> projectRows, CancellationToken ct)
     {
         var workerRef = body.WorkerRef;
         if (workerRef.Length is 0 or > SessionLimits.WorkerRefLength || workerRef.Any(char.IsControl))
             return Problems.Unprocessable($"'workerRef' must be 1 to {SessionLimits.WorkerRefLength} printable characters.");
-        // The project exists: the key check has just read its row, and the key filter has matched it to the route.
+        // With a project's key the project exists: the key check has just read its row and the key filter matched it
+        // to the route. The admin key is of no project, so for it the project is looked up.
+        if (http.HttpContext.User.Role() == KeyRole.Admin && await HotQueries.ProjectKeysAsync(db, projectRows, projectId, ct) is null)
+            return Problems.NotFound("No such project.");
 
         var baseUrl = options.Value.PublicBaseUrl?.TrimEnd('/') ?? $"{http.Scheme}://{http.Host}";
         var (created, started) = await StartAsync(db, time, versions, states, writer, projectId, workerRef, baseUrl, ct, page.Value.LaunchCodeLifetime);
