@@ -21,6 +21,25 @@ public sealed class ServerProcess : IDisposable
 
     public static async Task<ServerProcess> StartAsync(IReadOnlyDictionary<string, string> settings, int port)
     {
+        var server = Launch(settings, port);
+        await server.WaitReadyAsync(TimeSpan.FromSeconds(90));
+        return server;
+    }
+
+    /// <summary>
+    /// Starts the server with settings it must refuse and waits (bounded) for it to exit: its exit code and what it
+    /// printed, as an operator would see them.
+    /// </summary>
+    public static async Task<(int ExitCode, string Output)> StartExpectingExitAsync(IReadOnlyDictionary<string, string> settings)
+    {
+        using var server = Launch(settings, FreePort());
+        using var limit = new CancellationTokenSource(TimeSpan.FromSeconds(90));
+        await server._process.WaitForExitAsync(limit.Token);
+        return (server._process.ExitCode, server.Output);
+    }
+
+    private static ServerProcess Launch(IReadOnlyDictionary<string, string> settings, int port)
+    {
         var url = new Uri($"http://127.0.0.1:{port}");
         var info = new ProcessStartInfo("dotnet")
         {
@@ -38,7 +57,6 @@ public sealed class ServerProcess : IDisposable
         process.ErrorDataReceived += (_, e) => server.Append(e.Data);
         process.BeginOutputReadLine();
         process.BeginErrorReadLine();
-        await server.WaitReadyAsync(TimeSpan.FromSeconds(90));
         return server;
     }
 
