@@ -15,6 +15,8 @@ public sealed class HookReceiver : IAsyncDisposable
     private readonly WebApplication _app;
     private readonly Channel<Delivery> _deliveries = Channel.CreateUnbounded<Delivery>();
     private readonly Queue<int> _statuses;
+    private TaskCompletionSource? _hold;
+    private readonly TaskCompletionSource _held = new(TaskCreationOptions.RunContinuationsAsynchronously);
 
     public sealed record Delivery(string Body, string? Signature, string? DeliveryId, string? EventType, int AnsweredWith);
 
@@ -30,13 +32,40 @@ public sealed class HookReceiver : IAsyncDisposable
             using var reader = new StreamReader(request.Body);
             var body = await reader.ReadToEndAsync();
             int status;
-            lock (_statuses) status = _statuses.Count > 0 ? _statuses.Dequeue() : 200;
+            TaskCompletionSource? hold;
+            lock (_statuses)
+            {
+                status = _statuses.Count > 0 ? _statuses.Dequeue() : 200;
+                hold = _hold;
+                _hold = null;
+            }
             await _deliveries.Writer.WriteAsync(new Delivery(body, request.Headers["TeachServe-Signature"], request.Headers["TeachServe-Delivery"], request.Headers["TeachServe-Event"], status));
+            if (hold is not null)
+            {
+                _held.TrySetResult();
+                await hold.Task;
+            }
             return Results.StatusCode(status);
         });
     }
 
     public string Url { get; private set; } = "";
+
+    /// <summary>
+    /// The next delivery is recorded at once but answered only when the returned source is completed (a receiver
+    /// that is slow to answer). <see cref="Held"/> completes when that delivery has arrived.
+    /// </summary>
+    public TaskCompletionSource HoldNext()
+    {
+        var hold = new TaskCompletionSource(TaskCreationOptions.RunContinuationsAsynchronously);
+        lock (_statuses) _hold = hold;
+        return hold;
+    }
+
+    public Task Held => _held.Task.WaitAsync(TimeSpan.FromSeconds(30));
+
+    /// <summary>A delivery already received and not yet taken by <see cref="NextAsync"/>, if any.</summary>
+    public bool TryTake(out Delivery? delivery) => _deliveries.Reader.TryRead(out delivery);
 
     public static async Task<HookReceiver> StartAsync(int port = 0, params int[] statuses)
     {

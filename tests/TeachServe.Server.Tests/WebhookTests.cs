@@ -1,6 +1,8 @@
 using System.Text.Json.Nodes;
 using Microsoft.EntityFrameworkCore;
 using Microsoft.Extensions.DependencyInjection;
+using Microsoft.Extensions.Options;
+using TeachServe.Server.Infrastructure;
 using TeachServe.Server.Persistence;
 using TeachServe.Server.Webhooks;
 
@@ -95,10 +97,78 @@ public sealed class WebhookTests
         Directory.Delete(dir, recursive: true);
     }
 
+    // Several nodes run a dispatcher each against one database. In these tests a direct call of
+    // DeliverDueAsync stands for the other node's pass, while the app's own background pass holds a claim.
+
+    [Fact]
+    public async Task A_row_being_delivered_by_one_pass_is_not_posted_again_by_another()
+    {
+        await using var receiver = await HookReceiver.StartAsync();
+        var hold = receiver.HoldNext();
+        using var app = new TestApp();
+        var keys = await app.ReadyProjectAsync(WithHook(receiver.Url));
+        var s = await app.StartSessionAsync(keys);
+        var dispatcher = app.Service<OutboxDispatcher>();
+        await TestApp.RunAsync(s, Honest);
+        await receiver.Held;
+
+        var nextDue = await dispatcher.DeliverDueAsync(CancellationToken.None);
+
+        var first = await receiver.NextAsync();
+        Assert.False(receiver.TryTake(out var twice), $"posted twice: delivery {twice?.DeliveryId}");
+        var lease = OutboxDispatcher.ClaimLease(app.Service<IOptions<TeachServeOptions>>().Value.Webhooks);
+        Assert.Equal(app.Time.GetUtcNow() + lease, nextDue);
+        hold.SetResult();
+        await dispatcher.Idle;
+        var row = await OutboxRowAsync(app);
+        Assert.Equal(first.DeliveryId, row.Id.ToString(System.Globalization.CultureInfo.InvariantCulture));
+        Assert.Equal(OutboxStates.Delivered, row.State);
+        Assert.Equal(1, row.Attempts);
+    }
+
+    [Fact]
+    public async Task A_claim_left_by_a_dead_pass_is_retried_after_its_lease_and_its_late_result_is_ignored()
+    {
+        await using var receiver = await HookReceiver.StartAsync(0, 503);
+        var hold = receiver.HoldNext();
+        using var app = new TestApp();
+        var keys = await app.ReadyProjectAsync(WithHook(receiver.Url));
+        var s = await app.StartSessionAsync(keys);
+        var dispatcher = app.Service<OutboxDispatcher>();
+        await TestApp.RunAsync(s, Honest);
+        await receiver.Held;
+        var first = await receiver.NextAsync();
+
+        // The held pass stands for a node that stopped mid-delivery: the row is out of reach until its lease ends.
+        var lease = OutboxDispatcher.ClaimLease(app.Service<IOptions<TeachServeOptions>>().Value.Webhooks);
+        await dispatcher.DeliverDueAsync(CancellationToken.None);
+        Assert.False(receiver.TryTake(out _));
+        app.Time.Advance(lease + TimeSpan.FromSeconds(1));
+        await dispatcher.DeliverDueAsync(CancellationToken.None);
+        var second = await receiver.NextAsync();
+        Assert.Equal(first.DeliveryId, second.DeliveryId);
+        Assert.Equal(200, second.AnsweredWith);
+
+        // The first pass now gets its 503; recording it would put a delivered row back to pending.
+        hold.SetResult();
+        await dispatcher.Idle;
+        var row = await OutboxRowAsync(app);
+        Assert.Equal(OutboxStates.Delivered, row.State);
+        Assert.Equal(2, row.Attempts);
+        Assert.Equal(app.Time.GetUtcNow(), row.DeliveredAt);
+        Assert.Null(row.LastError);
+    }
+
+    private static async Task<OutboxMessage> OutboxRowAsync(TestApp app)
+    {
+        using var scope = app.Services.CreateScope();
+        return await scope.ServiceProvider.GetRequiredService<TeachServeDb>().Outbox.AsNoTracking().SingleAsync();
+    }
+
     [Fact]
     public void Backoff_doubles_up_to_the_cap()
     {
-        var o = new TeachServe.Server.Infrastructure.WebhookOptions { InitialBackoff = TimeSpan.FromSeconds(10), MaxBackoff = TimeSpan.FromMinutes(5) };
+        var o = new WebhookOptions { InitialBackoff = TimeSpan.FromSeconds(10), MaxBackoff = TimeSpan.FromMinutes(5) };
         Assert.Equal(TimeSpan.FromSeconds(10), OutboxDispatcher.Backoff(1, o));
         Assert.Equal(TimeSpan.FromSeconds(40), OutboxDispatcher.Backoff(3, o));
         Assert.Equal(TimeSpan.FromMinutes(5), OutboxDispatcher.Backoff(12, o));

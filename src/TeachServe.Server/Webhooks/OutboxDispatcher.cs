@@ -11,6 +11,13 @@ namespace TeachServe.Server.Webhooks;
 /// last attempt). Failed attempts are retried with exponential backoff; rows survive restarts because they
 /// live in the database. Delivery ids let receivers drop duplicates.
 /// </summary>
+/// <remarks>
+/// Several nodes run a dispatcher each against one database. Before posting, a node claims the row with one
+/// conditional UPDATE (the attempt counter it read, still pending, still due) that counts the attempt and moves
+/// the row's next attempt a lease ahead; of two nodes that read the same due row, only one claims it. The result
+/// is written only while the claim is still the row's latest attempt. A node that dies mid-delivery leaves the
+/// row pending: it falls due again when the lease ends, so nothing is lost.
+/// </remarks>
 public sealed partial class OutboxDispatcher(
     IServiceScopeFactory scopes,
     IHttpClientFactory httpClients,
@@ -59,7 +66,7 @@ public sealed partial class OutboxDispatcher(
         }
     }
 
-    /// <summary>Attempts every due row once; returns when the next pending row falls due, if any.</summary>
+    /// <summary>Attempts every due row once (those this node claims); returns when the next pending row falls due, if any.</summary>
     public async Task<DateTimeOffset?> DeliverDueAsync(CancellationToken ct)
     {
         using var scope = scopes.CreateScope();
@@ -67,7 +74,7 @@ public sealed partial class OutboxDispatcher(
         while (true)
         {
             var now = time.GetUtcNow();
-            var due = await db.Outbox
+            var due = await db.Outbox.AsNoTracking()
                 .Where(m => m.State == OutboxStates.Pending && m.NextAttemptAt <= now)
                 .OrderBy(m => m.NextAttemptAt).ThenBy(m => m.Id).Take(BatchSize).ToListAsync(ct);
             if (due.Count == 0) break;
@@ -75,45 +82,71 @@ public sealed partial class OutboxDispatcher(
             var secrets = await db.Projects.Where(p => projectIds.Contains(p.Id))
                 .ToDictionaryAsync(p => p.Id, p => p.WebhookSecret, ct);
             foreach (var message in due)
-                await AttemptAsync(message, secrets.GetValueOrDefault(message.ProjectId), ct);
-            await db.SaveChangesAsync(ct);
+            {
+                if (!await ClaimAsync(db, message, ct)) continue;
+                var outcome = await AttemptAsync(message, secrets.GetValueOrDefault(message.ProjectId), ct);
+                await RecordAsync(db, message, outcome, ct);
+            }
         }
         return await db.Outbox.Where(m => m.State == OutboxStates.Pending)
             .MinAsync(m => (DateTimeOffset?)m.NextAttemptAt, ct);
     }
 
-    private async Task AttemptAsync(OutboxMessage message, string? secret, CancellationToken ct)
+    /// <summary>How long a claimed row stays out of other passes: longer than an attempt can take.</summary>
+    public static TimeSpan ClaimLease(WebhookOptions settings) => settings.RequestTimeout + TimeSpan.FromMinutes(1);
+
+    /// <summary>
+    /// Counts the attempt and moves the row a lease ahead, if no other pass did since it was read. True when this
+    /// pass holds the row; <paramref name="message"/> then carries the claimed attempt number.
+    /// </summary>
+    private async Task<bool> ClaimAsync(TeachServeDb db, OutboxMessage message, CancellationToken ct)
+    {
+        var now = time.GetUtcNow();
+        var seen = message.Attempts;
+        var leaseEnd = now + ClaimLease(options.Value.Webhooks);
+        var claimed = await db.Outbox
+            .Where(m => m.Id == message.Id && m.State == OutboxStates.Pending && m.Attempts == seen && m.NextAttemptAt <= now)
+            .ExecuteUpdateAsync(u => u.SetProperty(m => m.Attempts, seen + 1).SetProperty(m => m.NextAttemptAt, leaseEnd), ct);
+        if (claimed == 0) return false;
+        message.Attempts = seen + 1;
+        message.NextAttemptAt = leaseEnd;
+        return true;
+    }
+
+    private readonly record struct Outcome(string State, DateTimeOffset NextAttemptAt, DateTimeOffset? DeliveredAt, string? Error);
+
+    /// <summary>Writes an attempt's result, unless a later claim (after this one's lease ran out) has taken the row.</summary>
+    private static async Task RecordAsync(TeachServeDb db, OutboxMessage message, Outcome outcome, CancellationToken ct) =>
+        await db.Outbox
+            .Where(m => m.Id == message.Id && m.Attempts == message.Attempts)
+            .ExecuteUpdateAsync(u => u
+                .SetProperty(m => m.State, outcome.State)
+                .SetProperty(m => m.NextAttemptAt, outcome.NextAttemptAt)
+                .SetProperty(m => m.DeliveredAt, outcome.DeliveredAt)
+                .SetProperty(m => m.LastError, outcome.Error), ct);
+
+    private async Task<Outcome> AttemptAsync(OutboxMessage message, string? secret, CancellationToken ct)
     {
         var settings = options.Value.Webhooks;
-        message.Attempts++;
-        string? error;
-        if (string.IsNullOrEmpty(secret))
-        {
-            error = "The project has no webhook secret any more.";
-        }
-        else
-        {
-            error = await PostAsync(message, secret, settings.RequestTimeout, ct);
-        }
+        var error = string.IsNullOrEmpty(secret)
+            ? "The project has no webhook secret any more."
+            : await PostAsync(message, secret, settings.RequestTimeout, ct);
 
         var now = time.GetUtcNow();
         if (error is null)
         {
-            message.State = OutboxStates.Delivered;
-            message.DeliveredAt = now;
-            message.LastError = null;
             LogDelivered(logger, message.Id, message.EventType, message.Attempts);
-            return;
+            return new Outcome(OutboxStates.Delivered, message.NextAttemptAt, now, null);
         }
-        message.LastError = error.Length > 1000 ? error[..1000] : error;
+        error = error.Length > 1000 ? error[..1000] : error;
         if (message.Attempts >= settings.MaxAttempts)
         {
-            message.State = OutboxStates.GaveUp;
             LogGaveUp(logger, message.Id, message.Attempts, error);
-            return;
+            return new Outcome(OutboxStates.GaveUp, message.NextAttemptAt, null, error);
         }
-        message.NextAttemptAt = now + Backoff(message.Attempts, settings);
-        LogRetry(logger, message.Id, message.Attempts, message.NextAttemptAt, error);
+        var next = now + Backoff(message.Attempts, settings);
+        LogRetry(logger, message.Id, message.Attempts, next, error);
+        return new Outcome(OutboxStates.Pending, next, null, error);
     }
 
     private async Task<string?> PostAsync(OutboxMessage message, string secret, TimeSpan timeout, CancellationToken ct)
