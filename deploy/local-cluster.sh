@@ -71,7 +71,11 @@ case "$cmd" in
     fi
     first=1
     for port in ${ports//,/ }; do
+      mkdir -p "$dir/node-$port"
       # The same settings the containers get from the ConfigMap and Secret (deploy/k8s, compose.yaml).
+      # Each node has a home of its own, as each container has: nothing but the database is shared (a shared
+      # ~/.aspnet would hide a node that keeps its data-protection keys on local disk).
+      HOME="$dir/node-$port" \
       TeachServe__Database__Provider=postgres \
       TeachServe__Database__ConnectionString="$db" \
       TeachServe__AdminKey="$key" \

@@ -1,4 +1,7 @@
 using System.Net.Http.Json;
+using Microsoft.AspNetCore.DataProtection;
+using Microsoft.EntityFrameworkCore;
+using Microsoft.Extensions.DependencyInjection;
 using System.Text.Json.Nodes;
 using System.Text.RegularExpressions;
 using TeachServe.Core.Projects;
@@ -28,6 +31,40 @@ public sealed partial class StartupTests
         }
         Microsoft.Data.Sqlite.SqliteConnection.ClearAllPools();
         Directory.Delete(dir, recursive: true);
+    }
+
+    [Fact]
+    public async Task The_console_key_ring_is_created_in_the_database_at_start_and_kept_across_restarts()
+    {
+        // Console cookies and form tokens are encrypted with these keys; a node behind a balancer, or restarted,
+        // must find the same ring (ConsoleAcrossNodesTests checks two nodes with separate home folders).
+        var dir = TestApp.NewDataDirectory();
+        int keyId;
+        string sealedText;
+        using (var first = new TestApp(dataDirectory: dir))
+        {
+            first.Client();
+            var keys = await KeyRowsAsync(first);
+            var key = Assert.Single(keys);
+            Assert.Contains("<key ", key.Xml, StringComparison.Ordinal);
+            keyId = key.Id;
+            sealedText = first.Service<IDataProtectionProvider>().CreateProtector("restart-check").Protect("owner console");
+        }
+        using (var second = new TestApp(dataDirectory: dir))
+        {
+            second.Client();
+            Assert.Equal(keyId, Assert.Single(await KeyRowsAsync(second)).Id);
+            Assert.Equal("owner console", second.Service<IDataProtectionProvider>().CreateProtector("restart-check").Unprotect(sealedText));
+        }
+        Microsoft.Data.Sqlite.SqliteConnection.ClearAllPools();
+        Directory.Delete(dir, recursive: true);
+    }
+
+    private static async Task<List<Microsoft.AspNetCore.DataProtection.EntityFrameworkCore.DataProtectionKey>> KeyRowsAsync(TestApp app)
+    {
+        using var scope = app.Services.CreateScope();
+        return await scope.ServiceProvider.GetRequiredService<TeachServe.Server.Persistence.TeachServeDb>()
+            .DataProtectionKeys.AsNoTracking().ToListAsync();
     }
 
     [Fact]

@@ -1,8 +1,10 @@
 using System.Security.Claims;
 using Microsoft.AspNetCore.Authentication;
 using Microsoft.AspNetCore.Authentication.Cookies;
+using Microsoft.AspNetCore.DataProtection;
 using Microsoft.EntityFrameworkCore;
 using TeachServe.Server.Auth;
+using TeachServe.Server.Infrastructure;
 using TeachServe.Server.Persistence;
 using TeachServe.Server.Projects;
 
@@ -13,6 +15,8 @@ namespace TeachServe.Server.OwnerConsole;
 /// Owners sign in to the console once with their project's owner key; the browser then holds an HttpOnly, Secure,
 /// SameSite=Strict cookie scoped to <c>/console</c> (an encrypted ticket naming the project and a fingerprint of
 /// the owner key hash, never the key). Every form also carries an anti-forgery token.
+/// Both are encrypted with data protection keys kept in the database, so a cookie or form from one node is
+/// accepted by every other, and survives restarts.
 /// </summary>
 public static class ConsoleAuth
 {
@@ -21,8 +25,14 @@ public static class ConsoleAuth
     public const string Path = "/console";
     private const string FingerprintClaim = "ts:owner-key";
 
+    public const string ApplicationName = "TeachServe";
+
     public static IServiceCollection AddConsoleAuth(this IServiceCollection services)
     {
+        // The application name, not the default (the content root path), isolates the key ring: nodes installed
+        // in different folders share it.
+        services.AddDataProtection().SetApplicationName(ApplicationName).PersistKeysToDbContext<TeachServeDb>();
+        services.AddScoped<IStartupStep, ConsoleKeyRing>();
         services.AddAuthentication().AddCookie(Scheme, o =>
         {
             o.Cookie.Name = CookieName;
@@ -80,3 +90,18 @@ public static class ConsoleAuth
     /// <summary>Ties the cookie to the key in force: a replaced owner key signs every console out.</summary>
     private static string Fingerprint(Project project) => Convert.ToHexStringLower(project.OwnerKeyHash)[..16];
 }
+
+/// <summary>
+/// Loads the key ring at start, creating the first key if the database has none, before the node reports
+/// ready. Nodes started one after another (the local script, compose) then all use the first node's key; two
+/// nodes creating a key at the same moment would each sign with their own until they reread the ring.
+/// </summary>
+public sealed class ConsoleKeyRing(IDataProtectionProvider protection) : IStartupStep
+{
+    public Task RunAsync(TeachServeDb db, StartupBanner banner, CancellationToken ct)
+    {
+        protection.CreateProtector("TeachServe.Startup").Protect([1]);
+        return Task.CompletedTask;
+    }
+}
+

@@ -1,3 +1,4 @@
+using Microsoft.AspNetCore.DataProtection.EntityFrameworkCore;
 using Microsoft.EntityFrameworkCore;
 using TeachServe.Server.Events;
 using TeachServe.Server.Items;
@@ -13,8 +14,10 @@ namespace TeachServe.Server.Persistence;
 /// <summary>
 /// The server's database. Each provider has a small subclass that owns its migrations
 /// (<see cref="SqliteTeachServeDb"/>; PostgreSQL gets its own), so the model is written once.
+/// It also holds the key ring of ASP.NET Core data protection (console cookies, form tokens), so every node
+/// reads the same keys.
 /// </summary>
-public abstract class TeachServeDb(DbContextOptions options) : DbContext(options)
+public abstract class TeachServeDb(DbContextOptions options) : DbContext(options), IDataProtectionKeyContext
 {
     public DbSet<Project> Projects => Set<Project>();
     public DbSet<Item> Items => Set<Item>();
@@ -25,6 +28,7 @@ public abstract class TeachServeDb(DbContextOptions options) : DbContext(options
     public DbSet<OutboxMessage> Outbox => Set<OutboxMessage>();
     public DbSet<AuditEntry> Audit => Set<AuditEntry>();
     public DbSet<ServerSetting> ServerSettings => Set<ServerSetting>();
+    public DbSet<DataProtectionKey> DataProtectionKeys => Set<DataProtectionKey>();
 
     protected override void OnModelCreating(ModelBuilder modelBuilder) =>
         modelBuilder.ApplyConfigurationsFromAssembly(typeof(TeachServeDb).Assembly);
