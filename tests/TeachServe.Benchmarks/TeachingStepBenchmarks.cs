@@ -55,7 +55,7 @@ public class TeachingStepBenchmarks
             _d[h] = (float)(learner[h] / total * _model.Error[h]);
         }
 
-        _sums = new double[TeachingOrders.CandidateChunk * 4];
+        _sums = new double[_unshown.Length * 4];
     }
 
     [Benchmark(Description = "per-answer")]
@@ -70,17 +70,9 @@ public class TeachingStepBenchmarks
     [Benchmark(Description = "floor")]
     public double Floor()
     {
-        // In chunks of rows as the policy calls the kernel: a chunk's sums stay in L1 next to the weight block.
-        var chunk = TeachingOrders.CandidateChunk;
-        var total = 0.0;
-        for (var start = 0; start < _unshown.Length; start += chunk)
-        {
-            var rows = _unshown.AsSpan(start, Math.Min(chunk, _unshown.Length - start));
-            MistakeKernel.RowSums4(_model.MistakeBits, _model.WordsPerRow, rows, _a, _b, _c, _d, _sums);
-            total += _sums[0] + _sums[(4 * rows.Length) - 1];
-        }
-
-        return total;
+        // Every unshown row in one call, as the policy calls the kernel.
+        MistakeKernel.RowSums4(_model.MistakeBits, _model.WordsPerRow, _unshown, _a, _b, _c, _d, _sums);
+        return _sums[0] + _sums[(4 * _unshown.Length) - 1];
     }
 
     /// <summary>The floor computed one row at a time (weights reread per row): shows what cache blocking buys.</summary>

@@ -8,8 +8,10 @@ namespace TeachServe.Core.Model;
 /// <summary>
 /// The one hot loop of teaching: for every candidate item, sums of per-hypothesis weights over the hypotheses
 /// that mislabel that item. Rows of the item × hypothesis mistake matrix are bitsets; weights are float vectors
-/// padded to a multiple of 64. With 256-bit SIMD each byte of mistake bits selects 8 float lanes through a
-/// 256-entry mask table, so a row costs one table load and one AND + ADD per weight vector per 8 hypotheses.
+/// padded to a multiple of 64. In the one-row kernels, with 256-bit SIMD, each byte of mistake bits selects 8
+/// float lanes through a 256-entry mask table, so a row costs one table load and one AND + ADD per weight vector
+/// per 8 hypotheses. The four-vector many-row kernel (the adaptive policy's) looks the byte up in a table of
+/// precomputed sums instead: one load and one ADD per 8 hypotheses for all four vectors.
 /// </summary>
 public static class MistakeKernel
 {
@@ -164,11 +166,33 @@ public static class MistakeKernel
     private const int BlockWords = 16;
 
     /// <summary>
+    /// Words of each row per block of the four-vector many-row kernel: 8 words are 512 hypotheses, 64 groups of
+    /// eight, whose lookup tables (64 × 256 entries × 16 bytes = 256 KiB) stay in L2 while every row streams past.
+    /// Measured with the benchmarks' --quick check at 10k × 1k and 100k × 5k: 2 and 4 words build the tables too
+    /// often, 16 (1 MiB) no longer fit L2; 8 was fastest at both sizes.
+    /// </summary>
+    private const int TableBlockWords = 8;
+
+    private const int TableGroups = TableBlockWords * 8;
+
+    /// <summary>The lookup tables of one block, per thread (256 KiB, allocated once per thread; a step allocates nothing).</summary>
+    [ThreadStatic]
+    private static Vector128<float>[]? _tables;
+
+    /// <summary>
     /// Masked sums of four weight vectors over many rows of a packed mistake matrix: for the k-th entry of
     /// <paramref name="rows"/>, <paramref name="sums"/>[4k..4k+3] receive the sums of a, b, c and d. Same values
     /// as <see cref="RowSums4(ReadOnlySpan{ulong}, ReadOnlySpan{float}, ReadOnlySpan{float}, ReadOnlySpan{float}, ReadOnlySpan{float}, out double, out double, out double, out double)"/>
     /// row by row, up to float rounding (partial sums per block are added in double).
     /// </summary>
+    /// <remarks>
+    /// Table lookup over bytes of mistake bits (the "method of four Russians" for a 0/1 matrix times a few
+    /// vectors; Arlazarov, Dinic, Kronrod and Faradzev 1970): for each group of eight hypotheses, a table of the
+    /// 256 possible subsets holds their four sums (a, b, c, d) in one 128-bit vector, built with 255 additions.
+    /// Each byte of a row then costs one load and one addition for all four vectors, instead of four masked loads
+    /// and additions per eight hypotheses. Building the tables costs as much as looking up 256 rows, so callers
+    /// should pass all their rows in one call.
+    /// </remarks>
     [MethodImpl(MethodImplOptions.AggressiveOptimization)]
     public static void RowSums4(
         ReadOnlySpan<ulong> bits,
@@ -186,7 +210,7 @@ public static class MistakeKernel
         CheckWeights(wordsPerRow, c);
         CheckWeights(wordsPerRow, d);
         sums = sums[..(rows.Length * 4)];
-        if (!Vector256.IsHardwareAccelerated)
+        if (!Vector128.IsHardwareAccelerated)
         {
             for (var k = 0; k < rows.Length; k++)
             {
@@ -197,23 +221,26 @@ public static class MistakeKernel
         }
 
         sums.Clear();
-        ref var masks = ref MemoryMarshal.GetArrayDataReference(ByteMasks);
-        ref var bitsStart = ref MemoryMarshal.GetReference(bits);
-        ref var ra = ref MemoryMarshal.GetReference(a);
-        ref var rb = ref MemoryMarshal.GetReference(b);
-        ref var rc = ref MemoryMarshal.GetReference(c);
-        ref var rd = ref MemoryMarshal.GetReference(d);
-        ref var rs = ref MemoryMarshal.GetReference(sums);
-        for (var w0 = 0; w0 < wordsPerRow; w0 += BlockWords)
+        if (rows.Length == 0)
         {
-            var w1 = Math.Min(w0 + BlockWords, wordsPerRow);
+            return;
+        }
+
+        var tables = _tables ??= new Vector128<float>[TableGroups * 256];
+        ref var t0 = ref MemoryMarshal.GetArrayDataReference(tables);
+        ref var bitsStart = ref MemoryMarshal.GetReference(bits);
+        ref var rs = ref MemoryMarshal.GetReference(sums);
+        for (var w0 = 0; w0 < wordsPerRow; w0 += TableBlockWords)
+        {
+            var words = Math.Min(TableBlockWords, wordsPerRow - w0);
+            BuildTables(ref t0, words * 8, w0 * 64, a, b, c, d);
             for (var k = 0; k < rows.Length; k++)
             {
-                ref var row = ref Unsafe.Add(ref bitsStart, (nint)rows[k] * wordsPerRow);
+                ref var row = ref Unsafe.Add(ref bitsStart, ((nint)rows[k] * wordsPerRow) + w0);
 
-                // Two accumulators per vector: one add per vector per group would otherwise wait on the add latency.
-                Vector256<float> a0 = default, a1 = default, b0 = default, b1 = default, c0 = default, c1 = default, d0 = default, d1 = default;
-                for (var w = w0; w < w1; w++)
+                // Four accumulators: one chain of additions would wait on the add latency at every byte.
+                Vector128<float> s0 = default, s1 = default, s2 = default, s3 = default;
+                for (var w = 0; w < words; w++)
                 {
                     var word = Unsafe.Add(ref row, w);
                     if (word == 0)
@@ -221,27 +248,47 @@ public static class MistakeKernel
                         continue;
                     }
 
-                    var offset = (nuint)(w * 64);
-                    for (var g = 0; g < 8; g += 2, offset += 16, word >>= 16)
-                    {
-                        var m0 = Unsafe.Add(ref masks, (int)(word & 0xFF));
-                        var m1 = Unsafe.Add(ref masks, (int)((word >> 8) & 0xFF));
-                        a0 += Vector256.LoadUnsafe(ref ra, offset) & m0;
-                        b0 += Vector256.LoadUnsafe(ref rb, offset) & m0;
-                        c0 += Vector256.LoadUnsafe(ref rc, offset) & m0;
-                        d0 += Vector256.LoadUnsafe(ref rd, offset) & m0;
-                        a1 += Vector256.LoadUnsafe(ref ra, offset + 8) & m1;
-                        b1 += Vector256.LoadUnsafe(ref rb, offset + 8) & m1;
-                        c1 += Vector256.LoadUnsafe(ref rc, offset + 8) & m1;
-                        d1 += Vector256.LoadUnsafe(ref rd, offset + 8) & m1;
-                    }
+                    // Byte offsets of the eight entries (entry size 16): each byte of the word shifted to bits 4–11.
+                    ref var t = ref Unsafe.As<Vector128<float>, byte>(ref Unsafe.Add(ref t0, w * 8 * 256));
+                    s0 += Unsafe.As<byte, Vector128<float>>(ref Unsafe.AddByteOffset(ref t, (nuint)((word << 4) & 0xFF0)));
+                    s1 += Unsafe.As<byte, Vector128<float>>(ref Unsafe.AddByteOffset(ref t, (nuint)(0x1000 + ((word >> 4) & 0xFF0))));
+                    s2 += Unsafe.As<byte, Vector128<float>>(ref Unsafe.AddByteOffset(ref t, (nuint)(0x2000 + ((word >> 12) & 0xFF0))));
+                    s3 += Unsafe.As<byte, Vector128<float>>(ref Unsafe.AddByteOffset(ref t, (nuint)(0x3000 + ((word >> 20) & 0xFF0))));
+                    s0 += Unsafe.As<byte, Vector128<float>>(ref Unsafe.AddByteOffset(ref t, (nuint)(0x4000 + ((word >> 28) & 0xFF0))));
+                    s1 += Unsafe.As<byte, Vector128<float>>(ref Unsafe.AddByteOffset(ref t, (nuint)(0x5000 + ((word >> 36) & 0xFF0))));
+                    s2 += Unsafe.As<byte, Vector128<float>>(ref Unsafe.AddByteOffset(ref t, (nuint)(0x6000 + ((word >> 44) & 0xFF0))));
+                    s3 += Unsafe.As<byte, Vector128<float>>(ref Unsafe.AddByteOffset(ref t, (nuint)(0x7000 + ((word >> 52) & 0xFF0))));
                 }
 
+                var sum = (s0 + s1) + (s2 + s3);
                 ref var s = ref Unsafe.Add(ref rs, 4 * k);
-                s += Vector256.Sum(a0 + a1);
-                Unsafe.Add(ref s, 1) += Vector256.Sum(b0 + b1);
-                Unsafe.Add(ref s, 2) += Vector256.Sum(c0 + c1);
-                Unsafe.Add(ref s, 3) += Vector256.Sum(d0 + d1);
+                Vector128.StoreUnsafe(Vector128.LoadUnsafe(ref s) + Vector128.WidenLower(sum), ref s);
+                Vector128.StoreUnsafe(Vector128.LoadUnsafe(ref s, 2) + Vector128.WidenUpper(sum), ref s, 2);
+            }
+        }
+    }
+
+    /// <summary>
+    /// For each of <paramref name="groups"/> groups of eight hypotheses from <paramref name="firstHypothesis"/>,
+    /// 256 entries: entry p holds the sums of a, b, c and d over the hypotheses whose bits are set in p.
+    /// Entries 2^i … 2^(i+1)−1 are entries 0 … 2^i−1 plus hypothesis i, so each costs one addition.
+    /// </summary>
+    private static void BuildTables(ref Vector128<float> t0, int groups, int firstHypothesis, ReadOnlySpan<float> a, ReadOnlySpan<float> b, ReadOnlySpan<float> c, ReadOnlySpan<float> d)
+    {
+        for (var g = 0; g < groups; g++)
+        {
+            ref var t = ref Unsafe.Add(ref t0, g * 256);
+            t = Vector128<float>.Zero;
+            var h = firstHypothesis + (g * 8);
+            for (var i = 0; i < 8; i++, h++)
+            {
+                var weight = Vector128.Create(a[h], b[h], c[h], d[h]);
+                var size = 1 << i;
+                ref var upper = ref Unsafe.Add(ref t, size);
+                for (var p = 0; p < size; p++)
+                {
+                    Unsafe.Add(ref upper, p) = Unsafe.Add(ref t, p) + weight;
+                }
             }
         }
     }

@@ -1,3 +1,4 @@
+using System.Buffers;
 using TeachServe.Core.Learning;
 using TeachServe.Core.Model;
 using TeachServe.Core.Projects;
@@ -116,21 +117,24 @@ public sealed class TeachingPolicy
         var oneMinusQ = 1.0 - belief.Q;
         var best = -1;
         var bestGain = double.NegativeInfinity;
-        Span<int> rows = stackalloc int[TeachingOrders.CandidateChunk];
-        Span<double> sums = stackalloc double[TeachingOrders.CandidateChunk * 4];
-        var x = 0;
-        while (x < _model.TeachCount)
+
+        // Every unshown item in one kernel call: its lookup tables are built once per block of hypotheses.
+        var rowBuffer = ArrayPool<int>.Shared.Rent(_model.TeachCount);
+        var sumBuffer = ArrayPool<double>.Shared.Rent(_model.TeachCount * 4);
+        try
         {
             var count = 0;
-            for (; x < _model.TeachCount && count < rows.Length; x++)
+            for (var x = 0; x < _model.TeachCount; x++)
             {
                 if (!shown[x])
                 {
-                    rows[count++] = x;
+                    rowBuffer[count++] = x;
                 }
             }
 
-            MistakeKernel.RowSums4(_model.MistakeBits, _model.WordsPerRow, rows[..count], _belief, _beliefError, _learner, _learnerError, sums);
+            var rows = rowBuffer.AsSpan(0, count);
+            var sums = sumBuffer.AsSpan(0, count * 4);
+            MistakeKernel.RowSums4(_model.MistakeBits, _model.WordsPerRow, rows, _belief, _beliefError, _learner, _learnerError, sums);
             for (var k = 0; k < count; k++)
             {
                 var wrongMass = sums[4 * k];
@@ -148,6 +152,11 @@ public sealed class TeachingPolicy
                     best = rows[k];
                 }
             }
+        }
+        finally
+        {
+            ArrayPool<int>.Shared.Return(rowBuffer);
+            ArrayPool<double>.Shared.Return(sumBuffer);
         }
 
         return best;
