@@ -159,9 +159,9 @@ public static class MistakeKernel
     }
 
     /// <summary>
-    /// Hypotheses per cache block of the many-row kernels: four float vectors over 1,024 hypotheses take 16 KiB,
-    /// so a block of weights stays in L1 while every row streams past it. Row by row, |H| = 100,000 needs 1.6 MB
-    /// of weights per row, reread from L3 each time.
+    /// Words per cache block of the one-vector many-row kernel, a quarter of its block (4,096 hypotheses, one
+    /// float vector of 16 KiB, stays in L1 while every row streams past it). Row by row, |H| = 100,000 needs
+    /// 400 KB of weights per row, reread from L2/L3 each time.
     /// </summary>
     private const int BlockWords = 16;
 
@@ -187,7 +187,8 @@ public static class MistakeKernel
     /// </summary>
     /// <remarks>
     /// Table lookup over bytes of mistake bits (the "method of four Russians" for a 0/1 matrix times a few
-    /// vectors; Arlazarov, Dinic, Kronrod and Faradzev 1970): for each group of eight hypotheses, a table of the
+    /// vectors; Arlazarov, Dinic, Kronrod and Faradzev, "On economical construction of the transitive closure of an
+    /// oriented graph", 1970, from memory): for each group of eight hypotheses, a table of the
     /// 256 possible subsets holds their four sums (a, b, c, d) in one 128-bit vector, built with 255 additions.
     /// Each byte of a row then costs one load and one addition for all four vectors, instead of four masked loads
     /// and additions per eight hypotheses. Building the tables costs as much as looking up 256 rows, so callers
