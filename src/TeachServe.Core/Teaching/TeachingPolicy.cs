@@ -5,14 +5,14 @@ using TeachServe.Core.Projects;
 
 namespace TeachServe.Core.Teaching;
 
-/// <summary>Chooses the next teaching item (DESIGN 2.4). Holds the scratch buffers so a step allocates nothing.</summary>
+/// <summary>
+/// Chooses the next teaching item (DESIGN 2.4). A step allocates nothing: its float vectors are refilled from the
+/// belief at every step, so they hold no session state and live per thread (<see cref="PolicyScratch"/>), not
+/// per session.
+/// </summary>
 public sealed class TeachingPolicy
 {
     private readonly ModelVersion _model;
-    private readonly float[] _belief;
-    private readonly float[] _beliefError;
-    private readonly float[] _learner;
-    private readonly float[] _learnerError;
 
     public TeachingPolicy(ModelVersion model, string policy, double blendWeight)
     {
@@ -25,18 +25,6 @@ public sealed class TeachingPolicy
         _model = model;
         Name = policy;
         BlendWeight = blendWeight;
-        var padded = MistakeKernel.PaddedLength(model.HypothesisCount);
-        _learner = new float[padded];
-        if (policy == PolicyNames.Adaptive)
-        {
-            _belief = new float[padded];
-            _beliefError = new float[padded];
-            _learnerError = new float[padded];
-        }
-        else
-        {
-            _belief = _beliefError = _learnerError = [];
-        }
     }
 
     public string Name { get; }
@@ -80,7 +68,7 @@ public sealed class TeachingPolicy
 
     private int Greedy(Belief belief, ReadOnlySpan<bool> shown)
     {
-        var item = TeachingOrders.NextGreedy(_model, belief.LearnerWeights, shown, _learner, out var gain);
+        var item = TeachingOrders.NextGreedy(_model, belief.LearnerWeights, shown, PolicyScratch.Rent(1, _model.HypothesisCount), out var gain);
         return gain > 0 ? item : FirstUnshownIndex(shown);
     }
 
@@ -102,15 +90,21 @@ public sealed class TeachingPolicy
 
         // Normalising by a multiply: the weights are rounded to float next, far coarser than the division's rounding.
         var inverseTotal = 1.0 / learnerTotal;
+        var padded = MistakeKernel.PaddedLength(_model.HypothesisCount);
+        var scratch = PolicyScratch.Rent(4, _model.HypothesisCount);
+        var beliefWeights = scratch[..padded];
+        var beliefError = scratch.Slice(padded, padded);
+        var learnerWeights = scratch.Slice(2 * padded, padded);
+        var learnerError = scratch.Slice(3 * padded, padded);
         double learnerErrorTotal = 0;
         for (var h = 0; h < learner.Length; h++)
         {
             var p = learner[h] * inverseTotal;
             var pe = p * error[h];
-            _belief[h] = (float)beta[h];
-            _beliefError[h] = (float)(beta[h] * error[h]);
-            _learner[h] = (float)p;
-            _learnerError[h] = (float)pe;
+            beliefWeights[h] = (float)beta[h];
+            beliefError[h] = (float)(beta[h] * error[h]);
+            learnerWeights[h] = (float)p;
+            learnerError[h] = (float)pe;
             learnerErrorTotal += pe;
         }
 
@@ -134,7 +128,7 @@ public sealed class TeachingPolicy
 
             var rows = rowBuffer.AsSpan(0, count);
             var sums = sumBuffer.AsSpan(0, count * 4);
-            MistakeKernel.RowSums4(_model.MistakeBits, _model.WordsPerRow, rows, _belief, _beliefError, _learner, _learnerError, sums);
+            MistakeKernel.RowSums4(_model.MistakeBits, _model.WordsPerRow, rows, beliefWeights, beliefError, learnerWeights, learnerError, sums);
             for (var k = 0; k < count; k++)
             {
                 var wrongMass = sums[4 * k];

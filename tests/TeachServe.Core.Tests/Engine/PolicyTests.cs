@@ -46,6 +46,62 @@ public class PolicyTests
     }
 
     /// <summary>R(A) = Σ_h P0(h)·err(h)·(1 − Π_{x∈A} ℓ(h,x)), the surrogate of Singla et al. (ICML 2014).</summary>
+    [Theory]
+    [InlineData(PolicyNames.Adaptive)]
+    [InlineData(PolicyNames.StochasticGreedy)]
+    public void Sessions_interleaved_on_one_thread_choose_as_they_do_alone(string policyName)
+    {
+        // The policies' float vectors live per thread, not per session: a session must not see another's values,
+        // including a larger model's leftovers in the padding of a smaller one (700 and 130 hypotheses).
+        var models = new[]
+        {
+            TinyModels.Random(41, m: 700, teach: 60, test: 10, labels: 2, alpha: 1.2, lapse: 0.05),
+            TinyModels.Random(42, m: 130, teach: 40, test: 10, labels: 3, alpha: 1.2, lapse: 0.05),
+        };
+        List<int>[] Run(bool interleaved)
+        {
+            var sessions = models.Select((m, i) => (Model: m, Policy: new TeachingPolicy(m, policyName, 1.0),
+                Belief: new Belief(m, m.Q * 0.5, m.Learner.Lapse), Shown: new bool[m.TeachCount], Random: new SeededRandom((ulong)(7 + i)),
+                Chosen: new List<int>())).ToArray();
+            void Step(int i, int step)
+            {
+                var s = sessions[i];
+                var item = s.Policy.ChooseNext(s.Belief, s.Shown, step, s.Random);
+                s.Chosen.Add(item);
+                s.Shown[item] = true;
+                s.Belief.Teach(item, s.Random.NextInt(s.Model.LabelCount));
+            }
+
+            for (var step = 0; step < 20; step++)
+            {
+                if (interleaved)
+                {
+                    Step(0, step);
+                    Step(1, step);
+                }
+            }
+
+            if (!interleaved)
+            {
+                for (var i = 0; i < sessions.Length; i++)
+                {
+                    for (var step = 0; step < 20; step++)
+                    {
+                        Step(i, step);
+                    }
+                }
+            }
+
+            return sessions.Select(s => s.Chosen).ToArray();
+        }
+
+        var alone = Run(interleaved: false);
+        var together = Run(interleaved: true);
+        Assert.Equal(alone[0], together[0]);
+        Assert.Equal(alone[1], together[1]);
+        Assert.Equal(20, alone[1].Distinct().Count());
+    }
+
     private static double Surrogate(ModelVersion model, IEnumerable<int> set)
     {
         var learner = model.Prior.ToArray();
