@@ -104,13 +104,8 @@ public sealed class WebhookTests
     public async Task A_row_being_delivered_by_one_pass_is_not_posted_again_by_another()
     {
         await using var receiver = await HookReceiver.StartAsync();
-        var hold = receiver.HoldNext();
         using var app = new TestApp();
-        var keys = await app.ReadyProjectAsync(WithHook(receiver.Url));
-        var s = await app.StartSessionAsync(keys);
-        var dispatcher = app.Service<OutboxDispatcher>();
-        await TestApp.RunAsync(s, Honest);
-        await receiver.Held;
+        var (hold, dispatcher) = await ReleaseWithHeldDeliveryAsync(app, receiver);
 
         var nextDue = await dispatcher.DeliverDueAsync(CancellationToken.None);
 
@@ -130,13 +125,8 @@ public sealed class WebhookTests
     public async Task A_claim_left_by_a_dead_pass_is_retried_after_its_lease_and_its_late_result_is_ignored()
     {
         await using var receiver = await HookReceiver.StartAsync(0, 503);
-        var hold = receiver.HoldNext();
         using var app = new TestApp();
-        var keys = await app.ReadyProjectAsync(WithHook(receiver.Url));
-        var s = await app.StartSessionAsync(keys);
-        var dispatcher = app.Service<OutboxDispatcher>();
-        await TestApp.RunAsync(s, Honest);
-        await receiver.Held;
+        var (hold, dispatcher) = await ReleaseWithHeldDeliveryAsync(app, receiver);
         var first = await receiver.NextAsync();
 
         // The held pass stands for a node that stopped mid-delivery: the row is out of reach until its lease ends.
@@ -157,6 +147,18 @@ public sealed class WebhookTests
         Assert.Equal(2, row.Attempts);
         Assert.Equal(app.Time.GetUtcNow(), row.DeliveredAt);
         Assert.Null(row.LastError);
+    }
+
+    /// <summary>Releases one annotator; returns once the app's background pass has posted the release and is waiting for the answer.</summary>
+    private static async Task<(TaskCompletionSource Hold, OutboxDispatcher Dispatcher)> ReleaseWithHeldDeliveryAsync(TestApp app, HookReceiver receiver)
+    {
+        var hold = receiver.HoldNext();
+        var keys = await app.ReadyProjectAsync(WithHook(receiver.Url));
+        var s = await app.StartSessionAsync(keys);
+        var dispatcher = app.Service<OutboxDispatcher>();
+        await TestApp.RunAsync(s, Honest);
+        await receiver.Held;
+        return (hold, dispatcher);
     }
 
     private static async Task<OutboxMessage> OutboxRowAsync(TestApp app)
