@@ -25,6 +25,8 @@ public sealed record LoadOptions
     /// </summary>
     public double? Rate { get; init; }
     public bool Json { get; init; }
+    /// <summary>Release webhook of the harness's own project (loopback only), so the load includes outbox deliveries.</summary>
+    public Uri? Webhook { get; init; }
     /// <summary>Keep every acknowledged answer (for the crash test).</summary>
     public bool RecordAcknowledged { get; init; }
     /// <summary>Keep going after errors (for the crash test, where the server is killed mid-run).</summary>
@@ -45,6 +47,7 @@ public sealed record LoadOptions
           --rate R                pace the annotators to R answer cycles/s in all (default: as fast as answered);
                                   latency then counts from when each cycle was due, so falling behind shows
           --json                  print the report as JSON
+          --webhook URL           give the harness's own project a release webhook to this loopback URL
         """;
 
     public static LoadOptions Parse(string[] args)
@@ -69,6 +72,7 @@ public sealed record LoadOptions
                 "--seed" => o with { Seed = (int)Number() },
                 "--rate" => o with { Rate = Number() },
                 "--json" => o with { Json = true },
+                "--webhook" => o with { Webhook = new Uri(Value()) },
                 _ => throw new ArgumentException($"Unknown option {args[i]}."),
             };
         }
@@ -85,6 +89,8 @@ public sealed record LoadOptions
         if (Duration <= TimeSpan.Zero || Duration > TimeSpan.FromHours(1)) throw new ArgumentException("--duration must be above 0 and at most 3600 s.");
         if (Warmup < TimeSpan.Zero || BaselineDuration < TimeSpan.Zero) throw new ArgumentException("--warmup and --baseline cannot be negative.");
         if (MaxRequests < 1) throw new ArgumentException("--max-requests must be at least 1.");
+        if (Webhook is { } hook && (!IsLoopback(hook) || AdminKey is null))
+            throw new ArgumentException("--webhook must be a loopback URL, and needs --admin-key (it is set on the harness's own project).");
         if (Rate is { } r && (!(r > 0) || r > 1_000_000)) throw new ArgumentException("--rate must be above 0 and at most 1000000.");
     }
 

@@ -297,6 +297,8 @@ public sealed class LoadRunner(LoadOptions options, TextWriter log) : IDisposabl
                 ["test"] = new JsonObject { ["mode"] = "fixed", ["maxItems"] = 12, ["delta"] = 0.3 },
             },
         };
+        if (options.Webhook is { } hook)
+            project["releaseWebhook"] = new JsonObject { ["url"] = hook.ToString(), ["secret"] = "load-webhook-secret-0123456789" };
         var created = await SetupAsync(HttpMethod.Post, "/api/v1/projects", options.AdminKey, JsonContent(project), 201, ct);
         var projectId = created["projectId"]!.GetValue<string>();
         OwnerKey = created["ownerKey"]!.GetValue<string>();
