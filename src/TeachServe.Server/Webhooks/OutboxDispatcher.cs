@@ -12,11 +12,13 @@ namespace TeachServe.Server.Webhooks;
 /// live in the database. Delivery ids let receivers drop duplicates.
 /// </summary>
 /// <remarks>
-/// Several nodes run a dispatcher each against one database. Before posting, a node claims the row with one
-/// conditional UPDATE (the attempt counter it read, still pending, still due) that counts the attempt and moves
-/// the row's next attempt a lease ahead; of two nodes that read the same due row, only one claims it. The result
-/// is written only while the claim is still the row's latest attempt. A node that dies mid-delivery leaves the
-/// row pending: it falls due again when the lease ends, so nothing is lost.
+/// Several nodes run a dispatcher each against one database. Before posting, a node claims each row of its
+/// batch with a conditional UPDATE (the attempt counter it read, still pending, still due) that counts the
+/// attempt and moves the row's next attempt a lease ahead; of two nodes that read the same due row, only one
+/// claims it. The claims of a batch are one transaction, and so are its results (on SQLite each transaction is a
+/// write and a sync outside the answer writer). A result is written only while the claim is still the row's
+/// latest attempt. A node that dies mid-delivery leaves its rows pending: they fall due again when the lease
+/// ends, so nothing is lost.
 /// </remarks>
 public sealed partial class OutboxDispatcher(
     IServiceScopeFactory scopes,
@@ -81,49 +83,70 @@ public sealed partial class OutboxDispatcher(
             var projectIds = due.Select(m => m.ProjectId).Distinct().ToList();
             var secrets = await db.Projects.Where(p => projectIds.Contains(p.Id))
                 .ToDictionaryAsync(p => p.Id, p => p.WebhookSecret, ct);
-            foreach (var message in due)
-            {
-                if (!await ClaimAsync(db, message, ct)) continue;
-                var outcome = await AttemptAsync(message, secrets.GetValueOrDefault(message.ProjectId), ct);
-                await RecordAsync(db, message, outcome, ct);
-            }
+            var claimed = await ClaimAsync(db, due, ct);
+            var outcomes = new List<(OutboxMessage Message, Outcome Outcome)>(claimed.Count);
+            foreach (var message in claimed)
+                outcomes.Add((message, await AttemptAsync(message, secrets.GetValueOrDefault(message.ProjectId), ct)));
+            await RecordAsync(db, outcomes, ct);
         }
         return await db.Outbox.Where(m => m.State == OutboxStates.Pending)
             .MinAsync(m => (DateTimeOffset?)m.NextAttemptAt, ct);
     }
 
-    /// <summary>How long a claimed row stays out of other passes: longer than an attempt can take.</summary>
-    public static TimeSpan ClaimLease(WebhookOptions settings) => settings.RequestTimeout + TimeSpan.FromMinutes(1);
+    /// <summary>
+    /// How long claimed rows stay out of other passes: longer than a pass can take over its batch (its attempts
+    /// run one after another, each bounded by the request timeout).
+    /// </summary>
+    public static TimeSpan ClaimLease(WebhookOptions settings) => (settings.RequestTimeout * BatchSize) + TimeSpan.FromMinutes(1);
 
     /// <summary>
-    /// Counts the attempt and moves the row a lease ahead, if no other pass did since it was read. True when this
-    /// pass holds the row; <paramref name="message"/> then carries the claimed attempt number.
+    /// In one transaction, for each row no other pass has claimed since it was read: count the attempt and move
+    /// the row a lease ahead. Returns the rows this pass holds, each carrying its claimed attempt number.
     /// </summary>
-    private async Task<bool> ClaimAsync(TeachServeDb db, OutboxMessage message, CancellationToken ct)
+    private async Task<List<OutboxMessage>> ClaimAsync(TeachServeDb db, List<OutboxMessage> due, CancellationToken ct)
     {
         var now = time.GetUtcNow();
-        var seen = message.Attempts;
         var leaseEnd = now + ClaimLease(options.Value.Webhooks);
-        var claimed = await db.Outbox
-            .Where(m => m.Id == message.Id && m.State == OutboxStates.Pending && m.Attempts == seen && m.NextAttemptAt <= now)
-            .ExecuteUpdateAsync(u => u.SetProperty(m => m.Attempts, seen + 1).SetProperty(m => m.NextAttemptAt, leaseEnd), ct);
-        if (claimed == 0) return false;
-        message.Attempts = seen + 1;
-        message.NextAttemptAt = leaseEnd;
-        return true;
+        var claimed = new List<OutboxMessage>(due.Count);
+        await using var transaction = await db.Database.BeginTransactionAsync(ct);
+        // In id order, so that two nodes claiming overlapping batches lock the rows in the same order.
+        foreach (var message in due.OrderBy(m => m.Id))
+        {
+            var seen = message.Attempts;
+            var rows = await db.Outbox
+                .Where(m => m.Id == message.Id && m.State == OutboxStates.Pending && m.Attempts == seen && m.NextAttemptAt <= now)
+                .ExecuteUpdateAsync(u => u.SetProperty(m => m.Attempts, seen + 1).SetProperty(m => m.NextAttemptAt, leaseEnd), ct);
+            if (rows == 0) continue;
+            message.Attempts = seen + 1;
+            message.NextAttemptAt = leaseEnd;
+            claimed.Add(message);
+        }
+        await transaction.CommitAsync(ct);
+        return claimed;
     }
 
     private readonly record struct Outcome(string State, DateTimeOffset NextAttemptAt, DateTimeOffset? DeliveredAt, string? Error);
 
-    /// <summary>Writes an attempt's result, unless a later claim (after this one's lease ran out) has taken the row.</summary>
-    private static async Task RecordAsync(TeachServeDb db, OutboxMessage message, Outcome outcome, CancellationToken ct) =>
-        await db.Outbox
-            .Where(m => m.Id == message.Id && m.Attempts == message.Attempts)
-            .ExecuteUpdateAsync(u => u
-                .SetProperty(m => m.State, outcome.State)
-                .SetProperty(m => m.NextAttemptAt, outcome.NextAttemptAt)
-                .SetProperty(m => m.DeliveredAt, outcome.DeliveredAt)
-                .SetProperty(m => m.LastError, outcome.Error), ct);
+    /// <summary>
+    /// Writes the attempts' results in one transaction; a row that a later claim has taken (after this pass's lease
+    /// ran out) keeps the later attempt's result.
+    /// </summary>
+    private static async Task RecordAsync(TeachServeDb db, List<(OutboxMessage Message, Outcome Outcome)> outcomes, CancellationToken ct)
+    {
+        if (outcomes.Count == 0) return;
+        await using var transaction = await db.Database.BeginTransactionAsync(ct);
+        foreach (var (message, outcome) in outcomes)
+        {
+            await db.Outbox
+                .Where(m => m.Id == message.Id && m.Attempts == message.Attempts)
+                .ExecuteUpdateAsync(u => u
+                    .SetProperty(m => m.State, outcome.State)
+                    .SetProperty(m => m.NextAttemptAt, outcome.NextAttemptAt)
+                    .SetProperty(m => m.DeliveredAt, outcome.DeliveredAt)
+                    .SetProperty(m => m.LastError, outcome.Error), ct);
+        }
+        await transaction.CommitAsync(ct);
+    }
 
     private async Task<Outcome> AttemptAsync(OutboxMessage message, string? secret, CancellationToken ct)
     {
