@@ -1,5 +1,10 @@
 using System.Net.Http.Json;
 using System.Text.Json.Nodes;
+using Microsoft.EntityFrameworkCore;
+using Microsoft.Extensions.DependencyInjection;
+using Microsoft.Extensions.Options;
+using TeachServe.Server.Persistence;
+using TeachServe.Server.Simulations;
 
 namespace TeachServe.Server.Tests;
 
@@ -81,6 +86,82 @@ public sealed class SimulationTests
         Assert.Contains("Canceled", ended["reason"]!.GetValue<string>(), StringComparison.Ordinal);
         Assert.InRange(ended["percentDone"]!.GetValue<double>(), 0, 99.9);
         await Api.ProblemAsync(await owner.GetAsync($"/api/v1/simulations/{id}/results.csv"), 409);
+    }
+
+    // Several nodes share one database; each node's queue lives in its memory. Rows written here stand for jobs
+    // that other nodes hold.
+
+    [Fact]
+    public async Task A_job_of_a_live_node_is_left_alone_and_one_whose_node_stopped_is_failed()
+    {
+        using var app = new TestApp();
+        var keys = await app.ReadyProjectAsync();
+        var queue = app.Service<SimulationQueue>();
+        var now = app.Time.GetUtcNow();
+        using (var scope = app.Services.CreateScope())
+        {
+            var db = scope.ServiceProvider.GetRequiredService<TeachServeDb>();
+            db.Set<SimulationJob>().AddRange(
+                OtherNodesJob("sim_live", keys.ProjectId, SimulationStatuses.Running, "node_live", now),
+                OtherNodesJob("sim_orphan", keys.ProjectId, SimulationStatuses.Queued, "node_gone", now - TimeSpan.FromMinutes(2)));
+            await db.SaveChangesAsync();
+        }
+
+        await queue.SweepAsync(CancellationToken.None);
+        Assert.Equal(SimulationStatuses.Running, (await JobAsync(app, "sim_live")).Status);
+        var orphan = await JobAsync(app, "sim_orphan");
+        Assert.Equal(SimulationStatuses.Failed, orphan.Status);
+        Assert.Contains("node running it stopped", orphan.Reason, StringComparison.Ordinal);
+
+        // The live node goes quiet too: after the stale limit its job ends the same way.
+        app.Time.Advance(app.Service<IOptions<SimulationLimits>>().Value.StaleAfter + TimeSpan.FromSeconds(1));
+        await queue.SweepAsync(CancellationToken.None);
+        Assert.Equal(SimulationStatuses.Failed, (await JobAsync(app, "sim_live")).Status);
+    }
+
+    [Fact]
+    public async Task A_cancel_made_through_another_node_stops_the_job_on_the_node_running_it()
+    {
+        // 5 policies × 2,000,000 learners: minutes of work, far beyond the bounded wait below, unless the cancel stops it.
+        var settings = BigJobs(pendingPerProject: 1);
+        settings["TeachServe:Simulations:MaxLearners"] = "2000000";
+        settings["TeachServe:Simulations:MaxLearnerRuns"] = "10000000";
+        using var app = new TestApp(settings);
+        var keys = await app.ReadyProjectAsync();
+        var owner = app.Client(keys.OwnerKey);
+        var queue = app.Service<SimulationQueue>();
+        var id = (await Api.JsonAsync(await owner.PostAsJsonAsync($"/api/v1/projects/{keys.ProjectId}/simulations",
+            new { policies = new[] { "adaptive", "random", "cover", "stochastic-greedy", "easy-first" }, learners = 2_000_000 }), 202))["simulationId"]!.GetValue<string>();
+        await WaitAsync(owner, id, j => j["percentDone"]!.GetValue<double>() > 0);
+        Assert.Equal(queue.NodeId, (await JobAsync(app, id)).NodeId);
+
+        // What the cancel endpoint does on a node that does not hold the job.
+        using (var scope = app.Services.CreateScope())
+        {
+            await scope.ServiceProvider.GetRequiredService<TeachServeDb>().Set<SimulationJob>().Where(j => j.Id == id)
+                .ExecuteUpdateAsync(u => u.SetProperty(j => j.Status, SimulationStatuses.Canceled).SetProperty(j => j.Reason, "Canceled by the owner."));
+        }
+        await queue.SweepAsync(CancellationToken.None);
+
+        // Bounded poll (at most 30 s): the job would run for minutes if the cancel did not reach it.
+        for (var i = 0; i < 1500 && queue.Progress(id) is not null; i++) await Task.Delay(20);
+        Assert.Null(queue.Progress(id));
+        var job = await JobAsync(app, id);
+        Assert.Equal(SimulationStatuses.Canceled, job.Status);
+        Assert.Equal("Canceled by the owner.", job.Reason);
+        Assert.Null(job.ResultJson);
+    }
+
+    private static SimulationJob OtherNodesJob(string id, string projectId, string status, string node, DateTimeOffset heartbeat) => new()
+    {
+        Id = id, ProjectId = projectId, ModelVersion = 1, RequestJson = "{}", Status = status,
+        CreatedAt = heartbeat, NodeId = node, HeartbeatAt = heartbeat,
+    };
+
+    private static async Task<SimulationJob> JobAsync(TestApp app, string id)
+    {
+        using var scope = app.Services.CreateScope();
+        return await scope.ServiceProvider.GetRequiredService<TeachServeDb>().Set<SimulationJob>().AsNoTracking().SingleAsync(j => j.Id == id);
     }
 
     [Fact]

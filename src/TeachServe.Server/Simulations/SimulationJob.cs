@@ -16,6 +16,10 @@ public sealed class SimulationJob
     public DateTimeOffset CreatedAt { get; set; }
     public DateTimeOffset? StartedAt { get; set; }
     public DateTimeOffset? FinishedAt { get; set; }
+    /// <summary>The node whose queue holds the job (several nodes share one database).</summary>
+    public string? NodeId { get; set; }
+    /// <summary>When that node last confirmed it still holds the job; a job without news for long is failed.</summary>
+    public DateTimeOffset? HeartbeatAt { get; set; }
 }
 
 public static class SimulationStatuses

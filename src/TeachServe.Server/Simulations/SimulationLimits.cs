@@ -15,4 +15,8 @@ public sealed class SimulationLimits
     public int MaxPendingJobsPerProject { get; set; } = 4;
     /// <summary>A job still running after this long is stopped and ends <c>failed</c>.</summary>
     public TimeSpan MaxRunTime { get; set; } = TimeSpan.FromMinutes(10);
+    /// <summary>How often a node confirms the jobs it holds, picks up cancels made through other nodes, and fails orphans.</summary>
+    public TimeSpan HeartbeatInterval { get; set; } = TimeSpan.FromSeconds(15);
+    /// <summary>A queued or running job whose node has not confirmed it for this long is failed (its node stopped).</summary>
+    public TimeSpan StaleAfter { get; set; } = TimeSpan.FromMinutes(1);
 }

@@ -24,6 +24,9 @@ public sealed partial class SimulationQueue(
     private readonly ConcurrentDictionary<string, CancellationTokenSource> _cancels = new();
     private readonly ConcurrentDictionary<string, double> _progress = new();
 
+    /// <summary>This process's name on the jobs it holds.</summary>
+    public string NodeId { get; } = "node_" + Infrastructure.Ids.Base32(System.Security.Cryptography.RandomNumberGenerator.GetBytes(10));
+
     public void Enqueue(string jobId)
     {
         _cancels[jobId] = new CancellationTokenSource();
@@ -43,7 +46,7 @@ public sealed partial class SimulationQueue(
 
     protected override async Task ExecuteAsync(CancellationToken stoppingToken)
     {
-        await AbandonLeftoversAsync(stoppingToken);
+        var heartbeat = HeartbeatLoopAsync(stoppingToken);
         var workers = Enumerable.Range(0, Math.Max(1, limits.Value.MaxConcurrentJobs)).Select(slot => Task.Run(async () =>
         {
             await foreach (var id in _queue.Reader.ReadAllAsync(stoppingToken))
@@ -64,32 +67,61 @@ public sealed partial class SimulationQueue(
                 }
             }
         }, stoppingToken));
-        await Task.WhenAll(workers);
+        await Task.WhenAll(workers.Append(heartbeat));
     }
 
-    /// <summary>Jobs a previous process left queued or running can never finish; say so on their rows.</summary>
-    private async Task AbandonLeftoversAsync(CancellationToken ct)
+    private async Task HeartbeatLoopAsync(CancellationToken stoppingToken)
+    {
+        try
+        {
+            while (!stoppingToken.IsCancellationRequested)
+            {
+                await SweepAsync(stoppingToken);
+                await Task.Delay(limits.Value.HeartbeatInterval, time, stoppingToken);
+            }
+        }
+        catch (OperationCanceledException) when (stoppingToken.IsCancellationRequested)
+        {
+        }
+    }
+
+    /// <summary>
+    /// One heartbeat: confirm the jobs this node holds, stop those that were canceled through another node, and fail
+    /// queued or running jobs of other nodes that have not been confirmed for <see cref="SimulationLimits.StaleAfter"/>
+    /// (their node stopped; its in-memory queue is gone). A restarted node has a new id, so its old jobs end this way too.
+    /// </summary>
+    public async Task SweepAsync(CancellationToken ct)
     {
         try
         {
             using var scope = scopes.CreateScope();
             var db = scope.ServiceProvider.GetRequiredService<TeachServeDb>();
-            var pending = await db.Set<SimulationJob>()
-                .Where(j => j.Status == SimulationStatuses.Queued || j.Status == SimulationStatuses.Running)
-                .Select(j => j.Id).ToListAsync(ct);
-            // Jobs submitted to this process since it started are its own, not leftovers.
-            var leftovers = pending.Where(id => !_cancels.ContainsKey(id)).ToList();
-            if (leftovers.Count == 0) return;
-            await db.Set<SimulationJob>()
-                .Where(j => leftovers.Contains(j.Id))
+            var now = time.GetUtcNow();
+            var jobs = db.Set<SimulationJob>();
+            await jobs.Where(j => j.NodeId == NodeId && (j.Status == SimulationStatuses.Queued || j.Status == SimulationStatuses.Running))
+                .ExecuteUpdateAsync(u => u.SetProperty(j => j.HeartbeatAt, now), ct);
+
+            var held = _cancels.Keys.ToList();
+            if (held.Count > 0)
+            {
+                var canceledElsewhere = await jobs.Where(j => held.Contains(j.Id) && j.Status == SimulationStatuses.Canceled)
+                    .Select(j => j.Id).ToListAsync(ct);
+                foreach (var id in canceledElsewhere)
+                    if (_cancels.TryGetValue(id, out var cts)) cts.Cancel();
+            }
+
+            var staleBefore = now - limits.Value.StaleAfter;
+            var reason = $"The node running it stopped before it finished (no heartbeat for {limits.Value.StaleAfter.TotalSeconds:0} s); submit it again.";
+            await jobs.Where(j => (j.Status == SimulationStatuses.Queued || j.Status == SimulationStatuses.Running)
+                                  && j.NodeId != NodeId && (j.HeartbeatAt == null || j.HeartbeatAt < staleBefore))
                 .ExecuteUpdateAsync(u => u.SetProperty(j => j.Status, SimulationStatuses.Failed)
-                    .SetProperty(j => j.Reason, "The server restarted before the simulation finished; submit it again.")
-                    .SetProperty(j => j.FinishedAt, time.GetUtcNow()), ct);
+                    .SetProperty(j => j.Reason, reason)
+                    .SetProperty(j => j.FinishedAt, now), ct);
         }
-        catch (Exception e) when (e is DbUpdateException or InvalidOperationException or Microsoft.Data.Sqlite.SqliteException)
+        catch (Exception e) when (e is DbUpdateException or InvalidOperationException or System.Data.Common.DbException)
         {
-            // The schema may not exist yet on a first start; there is nothing to abandon then.
-            LogLeftovers(logger, e);
+            // The database may be unreachable for a while; the next heartbeat tries again.
+            LogSweepFailed(logger, e);
         }
     }
 
@@ -107,8 +139,10 @@ public sealed partial class SimulationQueue(
                 await FinishAsync(id, SimulationStatuses.Canceled, "Canceled by the owner before it started.", null, stoppingToken);
                 return;
             }
-            await db.Set<SimulationJob>().Where(j => j.Id == id)
+            // Only a job still queued starts: another node may have canceled it meanwhile.
+            var started = await db.Set<SimulationJob>().Where(j => j.Id == id && j.Status == SimulationStatuses.Queued)
                 .ExecuteUpdateAsync(u => u.SetProperty(j => j.Status, SimulationStatuses.Running).SetProperty(j => j.StartedAt, time.GetUtcNow()), stoppingToken);
+            if (started == 0) return;
         }
 
         var request = JsonSerializer.Deserialize<CreateSimulationRequest>(job.RequestJson, ReportJson.Options)!;
@@ -164,7 +198,10 @@ public sealed partial class SimulationQueue(
         using var scope = scopes.CreateScope();
         var db = scope.ServiceProvider.GetRequiredService<TeachServeDb>();
         var progress = status == SimulationStatuses.Succeeded ? 1.0 : _progress.GetValueOrDefault(id);
-        await db.Set<SimulationJob>().Where(j => j.Id == id).ExecuteUpdateAsync(u => u
+        // A job that already ended (canceled through another node, or failed as an orphan) keeps that ending.
+        await db.Set<SimulationJob>()
+            .Where(j => j.Id == id && (j.Status == SimulationStatuses.Queued || j.Status == SimulationStatuses.Running))
+            .ExecuteUpdateAsync(u => u
             .SetProperty(j => j.Status, status)
             .SetProperty(j => j.Reason, reason)
             .SetProperty(j => j.ResultJson, resultJson)
@@ -183,6 +220,6 @@ public sealed partial class SimulationQueue(
     [LoggerMessage(Level = LogLevel.Information, Message = "Simulation {JobId} finished {Runs} policy × variant runs")]
     private static partial void LogJobDone(ILogger logger, string jobId, int runs);
 
-    [LoggerMessage(Level = LogLevel.Debug, Message = "No leftover simulations could be marked")]
-    private static partial void LogLeftovers(ILogger logger, Exception e);
+    [LoggerMessage(Level = LogLevel.Warning, Message = "Simulation heartbeat failed; trying again at the next one")]
+    private static partial void LogSweepFailed(ILogger logger, Exception e);
 }

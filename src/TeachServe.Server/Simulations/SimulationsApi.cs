@@ -54,6 +54,7 @@ public static class SimulationsApi
             Id = "sim_" + Ids.Base32(System.Security.Cryptography.RandomNumberGenerator.GetBytes(10)),
             ProjectId = projectId, ModelVersion = number.Value, Status = SimulationStatuses.Queued,
             RequestJson = JsonSerializer.Serialize(body with { ModelVersion = number }, ReportJson.Options), CreatedAt = time.GetUtcNow(),
+            NodeId = queue.NodeId, HeartbeatAt = time.GetUtcNow(),
         };
         db.Set<SimulationJob>().Add(job);
         await db.SaveChangesAsync(ct);
@@ -76,7 +77,8 @@ public static class SimulationsApi
             return Problems.Conflict($"The simulation has already ended ({job.Status}).");
         if (!queue.Cancel(job.Id))
         {
-            // Not held by this node's queue (e.g. left over from a restart): end it here.
+            // Not held by this node's queue: end it in the database; the node holding it (if any) sees the cancel at
+            // its next heartbeat and stops computing.
             await db.Set<SimulationJob>().Where(j => j.Id == job.Id && (j.Status == SimulationStatuses.Queued || j.Status == SimulationStatuses.Running))
                 .ExecuteUpdateAsync(u => u.SetProperty(j => j.Status, SimulationStatuses.Canceled)
                     .SetProperty(j => j.Reason, "Canceled by the owner.").SetProperty(j => j.FinishedAt, time.GetUtcNow()), ct);

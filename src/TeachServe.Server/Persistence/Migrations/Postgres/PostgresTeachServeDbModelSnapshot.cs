@@ -436,8 +436,15 @@ namespace TeachServe.Server.Persistence.Migrations.Postgres
                     b.Property<DateTimeOffset?>("FinishedAt")
                         .HasColumnType("timestamp with time zone");
 
+                    b.Property<DateTimeOffset?>("HeartbeatAt")
+                        .HasColumnType("timestamp with time zone");
+
                     b.Property<int>("ModelVersion")
                         .HasColumnType("integer");
+
+                    b.Property<string>("NodeId")
+                        .HasMaxLength(40)
+                        .HasColumnType("character varying(40)");
 
                     b.Property<double>("Progress")
                         .HasColumnType("double precision");

@@ -424,8 +424,15 @@ namespace TeachServe.Server.Persistence.Migrations.Sqlite
                     b.Property<long?>("FinishedAt")
                         .HasColumnType("INTEGER");
 
+                    b.Property<long?>("HeartbeatAt")
+                        .HasColumnType("INTEGER");
+
                     b.Property<int>("ModelVersion")
                         .HasColumnType("INTEGER");
+
+                    b.Property<string>("NodeId")
+                        .HasMaxLength(40)
+                        .HasColumnType("TEXT");
 
                     b.Property<double>("Progress")
                         .HasColumnType("REAL");
