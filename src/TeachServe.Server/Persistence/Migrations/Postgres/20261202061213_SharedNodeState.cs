@@ -1,4 +1,5 @@
-﻿using Microsoft.EntityFrameworkCore.Migrations;
+﻿using System;
+using Microsoft.EntityFrameworkCore.Migrations;
 using Npgsql.EntityFrameworkCore.PostgreSQL.Metadata;
 
 #nullable disable
@@ -6,11 +7,24 @@ using Npgsql.EntityFrameworkCore.PostgreSQL.Metadata;
 namespace TeachServe.Server.Persistence.Migrations.Postgres
 {
     /// <inheritdoc />
-    public partial class ConsoleKeyRing : Migration
+    public partial class SharedNodeState : Migration
     {
         /// <inheritdoc />
         protected override void Up(MigrationBuilder migrationBuilder)
         {
+            migrationBuilder.AddColumn<DateTimeOffset>(
+                name: "HeartbeatAt",
+                table: "SimulationJobs",
+                type: "timestamp with time zone",
+                nullable: true);
+
+            migrationBuilder.AddColumn<string>(
+                name: "NodeId",
+                table: "SimulationJobs",
+                type: "character varying(40)",
+                maxLength: 40,
+                nullable: true);
+
             migrationBuilder.CreateTable(
                 name: "DataProtectionKeys",
                 columns: table => new
@@ -31,6 +45,14 @@ namespace TeachServe.Server.Persistence.Migrations.Postgres
         {
             migrationBuilder.DropTable(
                 name: "DataProtectionKeys");
+
+            migrationBuilder.DropColumn(
+                name: "HeartbeatAt",
+                table: "SimulationJobs");
+
+            migrationBuilder.DropColumn(
+                name: "NodeId",
+                table: "SimulationJobs");
         }
     }
 }

@@ -5,11 +5,24 @@
 namespace TeachServe.Server.Persistence.Migrations.Sqlite
 {
     /// <inheritdoc />
-    public partial class ConsoleKeyRing : Migration
+    public partial class SharedNodeState : Migration
     {
         /// <inheritdoc />
         protected override void Up(MigrationBuilder migrationBuilder)
         {
+            migrationBuilder.AddColumn<long>(
+                name: "HeartbeatAt",
+                table: "SimulationJobs",
+                type: "INTEGER",
+                nullable: true);
+
+            migrationBuilder.AddColumn<string>(
+                name: "NodeId",
+                table: "SimulationJobs",
+                type: "TEXT",
+                maxLength: 40,
+                nullable: true);
+
             migrationBuilder.CreateTable(
                 name: "DataProtectionKeys",
                 columns: table => new
@@ -30,6 +43,14 @@ namespace TeachServe.Server.Persistence.Migrations.Sqlite
         {
             migrationBuilder.DropTable(
                 name: "DataProtectionKeys");
+
+            migrationBuilder.DropColumn(
+                name: "HeartbeatAt",
+                table: "SimulationJobs");
+
+            migrationBuilder.DropColumn(
+                name: "NodeId",
+                table: "SimulationJobs");
         }
     }
 }
