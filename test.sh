@@ -15,16 +15,17 @@ if [ ! -x /usr/bin/chromium ]; then
   $SUDO apt-get install -y --no-install-recommends chromium
 fi
 
-# Debian's PostgreSQL and nginx (the round-robin front of the cluster tests).
+# Debian's PostgreSQL and nginx (the round-robin front of the cluster tests), and npm (for the OpenAPI linter).
 missing=0
 ls /usr/lib/postgresql/*/bin/initdb >/dev/null 2>&1 || missing=1
 command -v nginx >/dev/null 2>&1 || [[ -x /usr/sbin/nginx ]] || missing=1
+command -v npm >/dev/null 2>&1 || missing=1
 if [[ $missing == 1 ]]; then
   if [[ $(id -u) -eq 0 ]]; then
     DEBIAN_FRONTEND=noninteractive apt-get update -qq
-    DEBIAN_FRONTEND=noninteractive apt-get install -y -qq postgresql nginx >/dev/null
+    DEBIAN_FRONTEND=noninteractive apt-get install -y -qq postgresql nginx nodejs npm >/dev/null
   else
-    echo "test.sh: PostgreSQL and nginx are needed: sudo apt-get install -y postgresql nginx" >&2
+    echo "test.sh: PostgreSQL, nginx and npm are needed: sudo apt-get install -y postgresql nginx nodejs npm" >&2
     exit 1
   fi
 fi
@@ -49,4 +50,17 @@ dotnet test TeachServe.sln --no-build -c Release --logger "console;verbosity=nor
 # The server tests again, each test on a PostgreSQL database of its own.
 TEACHSERVE_TEST_PROVIDER=postgres dotnet test tests/TeachServe.Server.Tests --no-build -c Release \
   --logger "console;verbosity=normal" 2>&1 | tee -a "$log" || status=1
+
+# The served OpenAPI document, linted by the pinned Redocly CLI that the script installs (tools/openapi-lint).
+tools/openapi-lint/lint.sh 2>&1 | tee -a "$log" || status=1
+
+# A summary last, so that the end of a long log names what failed.
+echo "test.sh: summary"
+grep -E "^(Total tests|\s+(Passed|Failed)):" "$log" | tr -s ' ' | awk '/^Total/ { if (l) print l; l = "  " $0; next } { l = l "," $0 } END { if (l) print l }' || true
+grep -E "^openapi-lint: " "$log" || true
+if [[ $status != 0 ]]; then
+  echo "test.sh: failing tests:"
+  grep -E "^\s+Failed TeachServe\." "$log" | sort -u || true
+  grep -A4 -E "^\s+Failed TeachServe\." "$log" | grep -vE "^\s+Failed TeachServe|^--$|Error Message:" | head -60 || true
+fi
 exit $status

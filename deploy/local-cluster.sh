@@ -66,7 +66,7 @@ case "$cmd" in
     fi
     dll=${TEACHSERVE_SERVER_DLL:-}
     if [[ -z "$dll" ]]; then
-      dotnet publish "$repo/src/TeachServe.Server" -c Release -o "$dir/app" --nologo -v quiet >&2
+      dotnet publish "$repo/src/TeachServe.Server" -c Release -r linux-x64 --self-contained false -o "$dir/app" --nologo -v quiet >&2
       dll="$dir/app/TeachServe.Server.dll"
     fi
     first=1
@@ -81,6 +81,7 @@ case "$cmd" in
       TeachServe__AdminKey="$key" \
       TeachServe__LoadDemo="${TEACHSERVE_LOAD_DEMO:-false}" \
       TeachServe__PrintStartupBanner=false \
+      TeachServe__ForwardedHeaders__KnownProxies__0=127.0.0.1 \
       TeachServe__DataDirectory="$dir/node-$port" \
       ASPNETCORE_ENVIRONMENT=Production \
       setsid dotnet "$dll" --urls "http://127.0.0.1:$port" >"$dir/node-$port.log" 2>&1 < /dev/null &

@@ -15,6 +15,8 @@ internal static class Program
         ["seed", .. var rest] => SeedCommand.Run(rest, output, error),
         ["compile", .. var rest] => OnProject(() => CompileCommand.Run(rest, output, error), error),
         ["simulate", .. var rest] => OnProject(() => SimulateCommand.Run(rest, output, error), error),
+        ["gate", .. var rest] => OnProject(() => GateCommand.Run(rest, output, error), error),
+        ["robustness", .. var rest] => OnProject(() => RobustnessCommand.Run(rest, output, error), error),
         ["help" or "--help" or "-h", ..] => Usage.Show(output),
         [] => Usage.Fail(error, "no verb given"),
         [var verb, ..] => Usage.Fail(error, $"unknown verb '{verb}'"),

@@ -1,13 +1,16 @@
-using Scalar.AspNetCore;
 using TeachServe.Server.Annotate;
 using TeachServe.Server.Auth;
+using TeachServe.Server.Contract;
 using TeachServe.Server.Demo;
 using TeachServe.Server.Events;
 using TeachServe.Server.Experiments;
+using TeachServe.Server.Exposure;
 using TeachServe.Server.Fits;
 using TeachServe.Server.Health;
 using TeachServe.Server.Infrastructure;
 using TeachServe.Server.Items;
+using TeachServe.Server.Media;
+using Microsoft.Extensions.Options;
 using TeachServe.Server.OwnerConsole;
 using TeachServe.Server.Persistence;
 using TeachServe.Server.Projects;
@@ -22,36 +25,51 @@ using TeachServe.Server.Workers;
 var builder = WebApplication.CreateBuilder(new WebApplicationOptions { Args = args, ContentRootPath = AppContext.BaseDirectory });
 if (builder.Configuration["urls"] is null) builder.WebHost.UseUrls("http://127.0.0.1:5080");
 
+// Data protection warns "No XML encryptor configured" when it creates the console's first key; the banner says where
+// those keys live instead, and SECURITY.md why (the key ring sits in the database beside what it protects).
+builder.Logging.AddFilter("Microsoft.AspNetCore.DataProtection.KeyManagement.XmlKeyManager", LogLevel.Error);
+
 // Configuration, validated before anything listens.
 builder.Services.AddOptions<TeachServeOptions>().BindConfiguration(TeachServeOptions.Section).ValidateOnStart();
 builder.Services.AddSingleton<Microsoft.Extensions.Options.IValidateOptions<TeachServeOptions>, TeachServeOptionsValidator>();
 builder.Services.AddSingleton(TimeProvider.System);
 builder.WebHost.ConfigureKestrel(k => k.Limits.MaxRequestBodySize = 8 * 1024 * 1024);
 
-// Cross-cutting: JSON dialect, problem details for every error, keys, rate limits, OpenAPI.
-builder.Services.ConfigureHttpJsonOptions(o => Json.Configure(o.SerializerOptions));
-builder.Services.Configure<RouteHandlerOptions>(o => o.ThrowOnBadRequest = true);
-builder.Services.AddProblemDetails(o => o.CustomizeProblemDetails = c =>
-    c.ProblemDetails.Extensions.TryAdd("traceId", c.HttpContext.TraceIdentifier));
-builder.Services.AddExceptionHandler<ProblemDetailsExceptionHandler>();
-builder.Services.AddAuthentication(KeyAuthenticationHandler.SchemeName)
-    .AddScheme<Microsoft.AspNetCore.Authentication.AuthenticationSchemeOptions, KeyAuthenticationHandler>(KeyAuthenticationHandler.SchemeName, null);
-builder.Services.AddScoped<KeyResolver>();
-builder.Services.AddSingleton<AdminKeyStore>();
-builder.Services.AddKeyRateLimits();
-builder.Services.AddOpenApi();
-
-// Persistence and start-up work.
+// Persistence and start-up work, registered before anything else that starts with the host: hosted services start in
+// this order, and authentication's data protection reads its key ring from the database, which must be migrated first.
 builder.Services.AddPersistence();
 builder.Services.AddSingleton<StartupState>();
+builder.Services.AddSingleton<ReadinessProbe>();
 // The single writer starts first: the start-up tasks may already write through it (the demo project's session).
 builder.Services.AddSingleton<AnswerCommitLoop>();
 builder.Services.AddHostedService(sp => sp.GetRequiredService<AnswerCommitLoop>());
 builder.Services.AddSingleton(_ => new StartupBanner(Console.Out));
 builder.Services.AddHostedService<StartupTasks>();
 
+// Cross-cutting: JSON dialect, problem details for every error, keys, rate limits, OpenAPI.
+builder.Services.ConfigureHttpJsonOptions(o => Json.Configure(o.SerializerOptions));
+builder.Services.Configure<RouteHandlerOptions>(o => o.ThrowOnBadRequest = true);
+builder.Services.AddProblemDetails(o => o.CustomizeProblemDetails = c =>
+{
+    c.ProblemDetails.Extensions.TryAdd("traceId", c.HttpContext.TraceIdentifier);
+    // A last guard: no problem names the server's .NET types, whatever wrote it.
+    c.ProblemDetails.Detail = ProblemText.Scrub(c.ProblemDetails.Detail);
+});
+builder.Services.AddExceptionHandler<ProblemDetailsExceptionHandler>();
+builder.Services.AddAuthentication(KeyAuthenticationHandler.SchemeName)
+    .AddScheme<Microsoft.AspNetCore.Authentication.AuthenticationSchemeOptions, KeyAuthenticationHandler>(KeyAuthenticationHandler.SchemeName, null);
+builder.Services.AddScoped<KeyResolver>();
+builder.Services.AddSingleton<AdminKeyStore>();
+builder.Services.AddKnownProxies();
+builder.Services.AddSingleton<AuditSubjects>();
+builder.Services.AddKeyRateLimits();
+builder.Services.AddApiContract();
+builder.Services.AddOpenApiDocumentCache();
+
 // Features.
 builder.Services.AddSingleton<ModelVersionCache>();
+builder.Services.AddSingleton<CompileSlots>();
+builder.Services.AddSingleton<TextEmbeddings>();
 builder.Services.AddSingleton<VersionCompileQueue>();
 builder.Services.AddHostedService(sp => sp.GetRequiredService<VersionCompileQueue>());
 builder.Services.AddScoped<IStartupStep>(sp => sp.GetRequiredService<VersionCompileQueue>());
@@ -62,7 +80,20 @@ builder.Services.AddSingleton(typeof(SqliteRowReader<>));
 builder.Services.AddSingleton<SessionEngine>();
 builder.Services.AddScoped<AnswerWriter>();
 builder.Services.AddSingleton<OutboxSignal>();
-builder.Services.AddHttpClient(OutboxDispatcher.HttpClientName);
+builder.Services.AddSingleton<WebhookSecrets>();
+builder.Services.AddScoped<IStartupStep, WebhookSecretsAtRest>();
+// Outgoing HTTP to owners' addresses goes through the network guard (no loopback or private networks unless allowed).
+builder.Services.AddHttpClient(OutboxDispatcher.HttpClientName).ConfigurePrimaryHttpMessageHandler(sp =>
+{
+    var hooks = sp.GetRequiredService<IOptions<TeachServeOptions>>().Value.Webhooks;
+    return NetworkGuard.Handler(hooks.AllowPrivateNetworks, hooks.ConnectTimeout);
+});
+builder.Services.AddHttpClient(MediaFetcher.HttpClientName, c => c.Timeout = Timeout.InfiniteTimeSpan).ConfigurePrimaryHttpMessageHandler(sp =>
+{
+    var media = sp.GetRequiredService<IOptions<TeachServeOptions>>().Value.Media;
+    return NetworkGuard.Handler(media.AllowPrivateNetworks, media.ConnectTimeout);
+});
+builder.Services.AddSingleton<MediaFetcher>();
 builder.Services.AddSingleton<OutboxDispatcher>();
 builder.Services.AddHostedService(sp => sp.GetRequiredService<OutboxDispatcher>());
 builder.Services.AddOptions<SimulationLimits>().BindConfiguration(SimulationLimits.Section);
@@ -73,21 +104,30 @@ builder.Services.AddOwnerConsole();
 
 var app = builder.Build();
 
+app.UseKnownProxies();
 app.UseSecurityHeaders();
 app.UseExceptionHandler();
 app.UseStatusCodePages();
 app.UseAuthentication();
 app.UseRateLimiter();
+// After rate limiting and before any endpoint binds a body: a request without a valid key ends here with 401.
+app.UseKeyAccess();
+app.UseOutputCache();
 app.UseAntiforgery();
 
-app.MapOpenApi().DisableRateLimiting();
-app.MapScalarApiReference().DisableRateLimiting();
+app.MapOpenApi().CacheOutput(OpenApiDocumentCache.PolicyName);
+// The API reference is our own page over the OpenAPI document: it works offline and loads nothing from elsewhere.
+app.MapGet("/reference", () => Results.Content(PageAssets.Page("reference.html"), "text/html; charset=utf-8"))
+    .ExcludeFromDescription().DisableRateLimiting();
+app.MapLandingPage();
 
 var api = app.MapGroup("/api/v1");
 api.MapProjects();
+api.MapProjectKeys();
 api.MapItems();
 api.MapVersions();
 api.MapSessions();
+api.MapTestExposure();
 api.MapReleases();
 api.MapEvents();
 api.MapWorkers();
@@ -95,6 +135,7 @@ api.MapExperiments();
 api.MapFits();
 api.MapSimulations();
 api.MapAnnotateApi();
+api.MapMedia();
 app.MapHealth();
 app.MapPageAssets();
 app.MapAnnotatePage();

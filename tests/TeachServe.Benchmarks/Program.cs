@@ -7,6 +7,12 @@ if (args.Length > 0 && args[0] == "--compile")
     return;
 }
 
+if (args.Length > 0 && args[0] == "--profile")
+{
+    QuickCheck.Profile(args.Length > 1 ? args[1] : ProjectCases.Digits, args.Length > 2 && args[2] == "reference", Console.Out);
+    return;
+}
+
 if (args.Length > 0 && args[0] == "--quick")
 {
     QuickCheck.Run(args.Length > 1 ? args[1] : BenchCases.Small, Console.Out);

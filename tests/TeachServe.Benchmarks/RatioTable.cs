@@ -34,6 +34,27 @@ public static class RatioTable
         string Bytes(string benchCase, string name) =>
             results.TryGetValue((benchCase, name), out var r) && r.Bytes is { } bytes ? FormatBytes(bytes) : "–";
 
+        var projectCases = results.Keys.Where(k => k.Name.StartsWith("project compile", StringComparison.Ordinal)).Select(k => k.Case).Distinct().ToList();
+        if (projectCases.Count > 0)
+        {
+            output.WriteLine();
+            output.WriteLine("## TeachServe project compile benchmarks (one run)");
+            output.WriteLine();
+            output.WriteLine("| project (items x features x labels) | compile | reference | reference / compile | allocated |");
+            output.WriteLine("|---|---|---|---|---|");
+            foreach (var benchCase in projectCases.OrderBy(c => int.Parse(c.Split(' ')[0], CultureInfo.InvariantCulture)))
+            {
+                output.WriteLine(
+                    $"| {benchCase} | {Time(benchCase, "project compile")} | {Time(benchCase, "project compile, reference")} | " +
+                    $"{Ratio(benchCase, "project compile, reference", "project compile")} | {Bytes(benchCase, "project compile")} |");
+            }
+        }
+
+        if (results.Keys.All(k => k.Name.StartsWith("project compile", StringComparison.Ordinal)))
+        {
+            return;
+        }
+
         output.WriteLine();
         output.WriteLine("## TeachServe step benchmarks (one run)");
         output.WriteLine();

@@ -98,5 +98,5 @@ public sealed class SessionState
     public ModelVersion Model { get; }
     public Belief Belief { get; }
     public bool[] Shown { get; }
-    public int Taught => WarmSteps;
+    public static int Taught => WarmSteps;
 }

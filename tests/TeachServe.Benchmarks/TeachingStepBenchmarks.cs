@@ -62,7 +62,7 @@ public class TeachingStepBenchmarks
     public int PerAnswer()
     {
         _work.CopyFrom(_state.Belief);
-        var item = _policy.ChooseNext(_work, _state.Shown, _state.Taught, _random);
+        var item = _policy.ChooseNext(_work, _state.Shown, SessionState.Taught, _random);
         _work.Teach(item, _model.TrueLabel(item));
         return item;
     }

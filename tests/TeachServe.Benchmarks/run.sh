@@ -19,4 +19,4 @@ dotnet bin/Release/net10.0/TeachServe.Benchmarks.dll "${filter[@]}" --artifacts 
 
 echo
 echo "Machine: $(lscpu | sed -n 's/^Model name:[[:space:]]*//p'), $(nproc) cores, .NET $(dotnet --version)"
-sed -n '/^## TeachServe step benchmarks/,$p' "$log"
+sed -n '/^## TeachServe project compile benchmarks\|^## TeachServe step benchmarks/,$p' "$log"

@@ -42,8 +42,17 @@ public sealed class Annotator(IPage page, IFrame frame)
         return await NextScreenAsync();
     }
 
+    /// <summary>For text items: the true label of each text; when set, the annotator reads the shown text instead of a drawing.</summary>
+    public IReadOnlyDictionary<string, string>? TextTruth { get; init; }
+
     public async Task<string> TrueLabelAsync()
     {
+        if (TextTruth is not null)
+        {
+            var text = await Frame.Locator("#item-figure p.text").InnerTextAsync();
+            Assert.True(TextTruth.TryGetValue(text, out var textLabel), $"the shown text is not one of the project's items: {text}");
+            return textLabel!;
+        }
         var src = await Frame.Locator("#item-figure img").GetAttributeAsync("src");
         Assert.NotNull(src);
         Assert.True(Truth.Value.TryGetValue(src, out var label), "the shown drawing is not one of the demo's items");

@@ -193,6 +193,93 @@ public sealed class AnnotatorPageTests(ServerFixture fixture) : IClassFixture<Se
         await second.GotoAsync(link);
         Assert.Equal("problem", (await new Annotator(second, second.MainFrame).NextScreenAsync()).View);
         Assert.Equal("This link has already been used.", await second.Locator("#problem-heading").InnerTextAsync());
+        // Nothing to retry: the only way on is a new link, which the text says.
+        Assert.False(await second.Locator("#problem-button").IsVisibleAsync());
         await Browser.ShotAsync(second, "annotate-08-link-used");
+    }
+
+    [Fact]
+    public async Task On_a_touch_screen_the_hint_says_tap_and_with_a_mouse_it_names_the_keys()
+    {
+        var (_, touchLink) = await fixture.StartSessionAsync("touch-annotator");
+        var phone = await fixture.NewPageAsync(390, 844, touch: true);
+        await phone.GotoAsync(touchLink);
+        await new Annotator(phone, phone.MainFrame).NextScreenAsync();
+        Assert.Equal("Tap the label that fits.", await phone.Locator("#labels-hint").InnerTextAsync());
+        Assert.Equal(0, await phone.Locator("#label-buttons kbd").CountAsync());
+        await Browser.ShotAsync(phone, "annotate-390-touch-item");
+
+        var (_, mouseLink) = await fixture.StartSessionAsync("mouse-annotator");
+        var desk = await fixture.NewPageAsync();
+        await desk.GotoAsync(mouseLink);
+        await new Annotator(desk, desk.MainFrame).NextScreenAsync();
+        Assert.Equal("Keys 1–2 choose a label.", await desk.Locator("#labels-hint").InnerTextAsync());
+        Assert.Equal(2, await desk.Locator("#label-buttons kbd").CountAsync());
+    }
+
+    [Fact]
+    public async Task A_second_check_is_announced_and_numbers_its_items_from_one()
+    {
+        var (_, link) = await fixture.StartSessionAsync("retaking-annotator");
+        var page = await fixture.NewPageAsync();
+        await page.GotoAsync(link);
+        var annotator = new Annotator(page, page.MainFrame);
+        await annotator.NextScreenAsync();
+        bool failedFirst = false, announcedSecond = false, numberedFromOne = false;
+        for (var i = 0; i < 400 && annotator.Screen.View != "end"; i++)
+        {
+            switch (annotator.Screen.View)
+            {
+                case "item":
+                    var phase = await page.Locator("#progress-phase").InnerTextAsync();
+                    if (phase.StartsWith("Second check", StringComparison.Ordinal) && !numberedFromOne)
+                    {
+                        Assert.Equal("Second check · item 1", phase);
+                        Assert.StartsWith("Second check, item 1:", await page.Locator("#item-heading").InnerTextAsync(), StringComparison.Ordinal);
+                        await Browser.ShotAsync(page, "annotate-09-second-check");
+                        numberedFromOne = true;
+                    }
+                    // Every answer of the first check is wrong, so it fails; everything else is answered right.
+                    await annotator.AnswerAsync(keyboard: false, correct: !(phase.StartsWith("Check", StringComparison.Ordinal) && !failedFirst));
+                    break;
+                case "notice":
+                    var heading = await page.Locator("#notice-heading").InnerTextAsync();
+                    if (heading.Contains("did not pass", StringComparison.Ordinal)) failedFirst = true;
+                    if (heading == "Teaching is done. Now the second check.") announcedSecond = true;
+                    await annotator.ContinueAsync(keyboard: false);
+                    break;
+                default:
+                    await annotator.ContinueAsync(keyboard: false);
+                    break;
+            }
+        }
+        Assert.True(failedFirst, "the first check did not fail");
+        Assert.True(announcedSecond, "the second check was not announced");
+        Assert.True(numberedFromOne, "the second check's items were not numbered from 1");
+    }
+
+    [Fact]
+    public async Task Teaching_progress_counts_items_and_never_moves_back_after_wrong_answers()
+    {
+        var (_, link) = await fixture.StartSessionAsync("struggling-annotator");
+        var page = await fixture.NewPageAsync();
+        await page.GotoAsync(link);
+        var annotator = new Annotator(page, page.MainFrame);
+        await annotator.NextScreenAsync();
+        var seen = new List<int>();
+        for (var answered = 0; answered < 4 && annotator.Screen.View is "item" or "feedback"; )
+        {
+            if (annotator.Screen.View == "feedback") { await annotator.ContinueAsync(keyboard: false); continue; }
+            Assert.StartsWith($"Teaching · item {answered + 1} of at most ", await page.Locator("#progress-phase").InnerTextAsync(), StringComparison.Ordinal);
+            Assert.DoesNotContain("%", await page.Locator("#progress").InnerTextAsync(), StringComparison.Ordinal);
+            seen.Add(int.Parse(await page.Locator("#meter").GetAttributeAsync("aria-valuenow") ?? "-1", System.Globalization.CultureInfo.InvariantCulture));
+            // Three wrong answers first, then a right one: the bar only counts items.
+            await annotator.AnswerAsync(keyboard: false, correct: answered == 3);
+            answered++;
+        }
+        Assert.Equal(4, seen.Count);
+        Assert.Equal(seen.Order(), seen);
+        Assert.True(seen[^1] > seen[0]);
+        await Browser.ShotAsync(page, "annotate-10-plain-progress");
     }
 }

@@ -98,6 +98,57 @@ public sealed class ConsoleTests(ServerFixture fixture) : IClassFixture<ServerFi
         Assert.Equal(before, await owner.GetStringAsync($"/api/v1/projects/{fixture.ProjectId}/versions"));
     }
 
+    [Fact]
+    public async Task The_pictures_are_svg_in_a_sans_serif_face_and_an_unknown_picture_is_a_404_problem()
+    {
+        var page = await SignedInAsync();
+        foreach (var name in new[] { "calibration.svg", "learning-curve.svg", "items-to-release.svg" })
+        {
+            var picture = await page.APIRequest.GetAsync($"{fixture.Server.BaseUrl}/console/plots/{name}");
+            Assert.Equal(200, picture.Status);
+            Assert.StartsWith("image/svg+xml", picture.Headers["content-type"], StringComparison.Ordinal);
+            var svg = await picture.TextAsync();
+            Assert.Contains("sans-serif", svg, StringComparison.Ordinal);
+            Assert.DoesNotContain("Serif", svg, StringComparison.Ordinal);
+        }
+        var missing = await page.APIRequest.GetAsync($"{fixture.Server.BaseUrl}/console/plots/nope.svg");
+        Assert.Equal(404, missing.Status);
+        Assert.StartsWith("application/problem+json", missing.Headers["content-type"], StringComparison.Ordinal);
+        using var problem = System.Text.Json.JsonDocument.Parse(await missing.TextAsync());
+        Assert.Contains("items-to-release.svg", problem.RootElement.GetProperty("detail").GetString(), StringComparison.Ordinal);
+    }
+
+    [Fact]
+    public async Task The_landing_page_links_the_console_and_an_api_reference_that_loads_nothing_from_elsewhere()
+    {
+        var page = await fixture.NewPageAsync(1280, 800);
+        var elsewhere = new List<string>();
+        page.Request += (_, r) =>
+        {
+            if (!r.Url.StartsWith(fixture.Server.BaseUrl, StringComparison.Ordinal) && !r.Url.StartsWith("data:", StringComparison.Ordinal)) elsewhere.Add(r.Url);
+        };
+        var landing = await page.GotoAsync(fixture.Server.BaseUrl + "/");
+        Assert.Equal(200, landing!.Status);
+        Assert.Equal("TeachServe", await page.Locator("h1").InnerTextAsync());
+        await Browser.ShotAsync(page, "landing-01");
+
+        await page.GetByRole(AriaRole.Link, new() { Name = "API reference" }).ClickAsync();
+        // Our own page over the served document: every operation of the document is listed, grouped by tag.
+        await page.Locator("#status", new() { HasTextRegex = new System.Text.RegularExpressions.Regex(@"^\d+ operations\.$") }).WaitForAsync();
+        var operations = await page.Locator("article.operation").CountAsync();
+        using var api = new HttpClient();
+        var document = System.Text.Json.Nodes.JsonNode.Parse(await api.GetStringAsync(fixture.Server.BaseUrl + "/openapi/v1.json"))!;
+        var expected = document["paths"]!.AsObject().Sum(p => p.Value!.AsObject().Count(m => m.Key is "get" or "post" or "put" or "patch" or "delete"));
+        Assert.Equal(expected, operations);
+        Assert.True(await page.GetByText("Create a project from a project.json document").First.IsVisibleAsync());
+        await Browser.ShotAsync(page, "landing-02-api-reference");
+        Assert.Empty(elsewhere);
+
+        await page.GotoAsync(fixture.Server.BaseUrl + "/");
+        await page.GetByRole(AriaRole.Link, new() { Name = "Owner console" }).ClickAsync();
+        await page.GetByLabel("Owner key").WaitForAsync();
+    }
+
     private async Task<IPage> SignedInAsync()
     {
         var page = await fixture.NewPageAsync(1280, 900);

@@ -66,9 +66,12 @@ public class ServerFixture : IAsyncLifetime
         return (session["step"]!.GetValue<int>(), answers, session["phase"]!.GetValue<string>());
     }
 
-    public async Task<IPage> NewPageAsync(int width = 1100, int height = 900)
+    public async Task<IPage> NewPageAsync(int width = 1100, int height = 900, bool touch = false)
     {
-        var context = await Browser.NewContextAsync(new BrowserNewContextOptions { ViewportSize = new ViewportSize { Width = width, Height = height } });
+        var context = await Browser.NewContextAsync(new BrowserNewContextOptions
+        {
+            ViewportSize = new ViewportSize { Width = width, Height = height }, HasTouch = touch, IsMobile = touch,
+        });
         return await context.NewPageAsync();
     }
 }

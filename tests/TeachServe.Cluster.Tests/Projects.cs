@@ -21,7 +21,7 @@ public static class Projects
             ["gate"] = new JsonObject
             {
                 ["targetError"] = 0.1, ["confidence"] = 0.8, ["maxTeachingItems"] = 10, ["retakes"] = 0,
-                ["test"] = new JsonObject { ["mode"] = "fixed", ["maxItems"] = 8, ["delta"] = 0.3 },
+                ["test"] = new JsonObject { ["mode"] = "fixed", ["maxItems"] = 8, ["delta"] = 0.6 },
             },
         };
         var created = await JsonAsync(await admin.PostAsJsonAsync("/api/v1/projects", project), 201);

@@ -294,11 +294,11 @@ public sealed class LoadRunner(LoadOptions options, TextWriter log) : IDisposabl
             ["gate"] = new JsonObject
             {
                 ["targetError"] = 0.1, ["confidence"] = 0.8, ["maxTeachingItems"] = 20, ["retakes"] = 0,
-                ["test"] = new JsonObject { ["mode"] = "fixed", ["maxItems"] = 12, ["delta"] = 0.3 },
+                ["test"] = new JsonObject { ["mode"] = "fixed", ["maxItems"] = 12, ["delta"] = 0.6 },
             },
         };
         if (options.Webhook is { } hook)
-            project["releaseWebhook"] = new JsonObject { ["url"] = hook.ToString(), ["secret"] = "load-webhook-secret-0123456789" };
+            project["releaseWebhook"] = new JsonObject { ["url"] = hook.ToString(), ["secret"] = "whsec_" + Convert.ToBase64String(System.Security.Cryptography.RandomNumberGenerator.GetBytes(32)) };
         var created = await SetupAsync(HttpMethod.Post, "/api/v1/projects", options.AdminKey, JsonContent(project), 201, ct);
         var projectId = created["projectId"]!.GetValue<string>();
         OwnerKey = created["ownerKey"]!.GetValue<string>();

@@ -48,7 +48,7 @@ public sealed class AnnotatorPageApiTests
         app.Time.Advance(TimeSpan.FromMinutes(11));
         await Api.ProblemAsync(await app.Client().PostAsJsonAsync("/api/v1/launch", new { code = Code(first) }), 410);
 
-        var again = await Api.JsonAsync(await app.Client(keys.EmbedKey).PostAsJsonAsync($"/api/v1/projects/{keys.ProjectId}/sessions", new { workerRef = "w1" }), 200);
+        var again = await Api.JsonAsync(await app.Client(keys.EmbedKey).PostAsJsonAsync($"/api/v1/projects/{keys.ProjectId}/sessions", new { workerRef = "w1", resume = true }), 200);
         var exchanged = await Api.JsonAsync(await app.Client().PostAsJsonAsync("/api/v1/launch", new { code = Code(again) }), 200);
         Assert.Equal(again["token"]!.GetValue<string>(), exchanged["token"]!.GetValue<string>());
         var page = await Api.JsonAsync(await app.Client(exchanged["token"]!.GetValue<string>()).GetAsync($"/api/v1/sessions/{again["sessionId"]}/page"), 200);

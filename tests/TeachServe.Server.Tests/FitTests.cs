@@ -25,7 +25,7 @@ public sealed class FitTests
         // this run is not reproducible and a 95 % interval misses the truth in about one run in twenty: the coverage
         // check (≥ 90 % over a seeded grid) lives in Core (LearnerFitRecoveryTests). Here the test checks the wiring:
         // the estimates are inside the searched range, inside their own profile intervals, and plausible.
-        // Repeated HTTP fits of this set-up spread around the simulating values (README.md, "For researchers", Caveats).
+        // Repeated HTTP fits of this set-up spread around the simulating values (docs/research.md, Caveats).
         var estimate = fit["fit"]!["alpha"]!.GetValue<double>();
         var alphaInterval = fit["fit"]!["alphaProfile"]!["interval"]!;
         Assert.InRange(estimate, 0.01, 20);

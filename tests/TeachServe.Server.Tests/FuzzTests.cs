@@ -79,7 +79,7 @@ public sealed class FuzzTests
         Assert.Equal(aBefore, await EventsAsync(app, a));
         // A's session is still where it was left: A's platform resumes it (its old token has expired meanwhile).
         var resumed = await Api.JsonAsync(await app.Client(a.EmbedKey).PostAsJsonAsync(
-            $"/api/v1/projects/{a.ProjectId}/sessions", new { workerRef = "a-worker" }), 200);
+            $"/api/v1/projects/{a.ProjectId}/sessions", new { workerRef = "a-worker", resume = true }), 200);
         Assert.Equal(aSession.SessionId, resumed["sessionId"]!.GetValue<string>());
         var next = await Api.JsonAsync(await app.Client(resumed["token"]!.GetValue<string>()).GetAsync($"/api/v1/sessions/{aSession.SessionId}/next"), 200);
         Assert.Equal(0, next["step"]!.GetValue<int>());
@@ -177,7 +177,7 @@ public sealed class FuzzTests
         return Pick(random, paths);
     }
 
-    private static HttpContent Body(Random random, string path, string project, string session)
+    private static ByteArrayContent Body(Random random, string path, string project, string session)
     {
         JsonNode Value() => random.Next(9) switch
         {

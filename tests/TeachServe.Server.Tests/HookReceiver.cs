@@ -1,3 +1,4 @@
+using System.Text.Json.Nodes;
 using System.Threading.Channels;
 using Microsoft.AspNetCore.Builder;
 using Microsoft.AspNetCore.Hosting;
@@ -18,7 +19,15 @@ public sealed class HookReceiver : IAsyncDisposable
     private TaskCompletionSource? _hold;
     private readonly TaskCompletionSource _held = new(TaskCreationOptions.RunContinuationsAsynchronously);
 
-    public sealed record Delivery(string Body, string? Signature, string? DeliveryId, string? EventType, int AnsweredWith);
+    /// <summary>One request as received: the raw body and the Standard Webhooks headers.</summary>
+    public sealed record Delivery(string Body, string? Id, string? Timestamp, string? Signature, string? ContentType, int AnsweredWith)
+    {
+        /// <summary>The CloudEvent's <c>type</c>.</summary>
+        public string? Type => JsonNode.Parse(Body)?["type"]?.GetValue<string>();
+
+        /// <summary>The CloudEvent's <c>data</c>: the session's end.</summary>
+        public JsonNode Data => JsonNode.Parse(Body)!["data"]!;
+    }
 
     private HookReceiver(int[] statuses, int port)
     {
@@ -39,7 +48,8 @@ public sealed class HookReceiver : IAsyncDisposable
                 hold = _hold;
                 _hold = null;
             }
-            await _deliveries.Writer.WriteAsync(new Delivery(body, request.Headers["TeachServe-Signature"], request.Headers["TeachServe-Delivery"], request.Headers["TeachServe-Event"], status));
+            await _deliveries.Writer.WriteAsync(new Delivery(body, request.Headers["webhook-id"], request.Headers["webhook-timestamp"],
+                request.Headers["webhook-signature"], request.ContentType, status));
             if (hold is not null)
             {
                 _held.TrySetResult();
@@ -47,6 +57,17 @@ public sealed class HookReceiver : IAsyncDisposable
             }
             return Results.StatusCode(status);
         });
+    }
+
+    /// <summary>The secret the tests' projects sign with: <c>whsec_</c> and the base64 of the 32 bytes 1, 2, …, 32.</summary>
+    public const string Secret = "whsec_AQIDBAUGBwgJCgsMDQ4PEBESExQVFhcYGRobHB0eHyA=";
+
+    /// <summary>The test project with a release webhook to <paramref name="url"/>.</summary>
+    public static JsonObject ProjectWithHook(string url, string secret = Secret, int retakes = 0)
+    {
+        var project = TestApp.ProjectJson(retakes: retakes);
+        project["releaseWebhook"] = new JsonObject { ["url"] = url, ["secret"] = secret };
+        return project;
     }
 
     public string Url { get; private set; } = "";

@@ -19,7 +19,7 @@ public sealed class HostTests
         var doc = await client.GetStringAsync("/openapi/v1.json");
         Assert.Contains("/api/v1/projects/{projectId}/sessions", doc, StringComparison.Ordinal);
         Assert.Contains("/api/v1/sessions/{sessionId}/answers", doc, StringComparison.Ordinal);
-        var page = await client.GetAsync("/scalar/v1");
+        var page = await client.GetAsync("/reference");
         Assert.Equal(200, (int)page.StatusCode);
         Assert.Contains("text/html", page.Content.Headers.ContentType?.MediaType, StringComparison.Ordinal);
     }

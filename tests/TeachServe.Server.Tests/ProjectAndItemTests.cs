@@ -17,14 +17,14 @@ public sealed class ProjectAndItemTests
         var patch = new JsonObject
         {
             ["gate"] = new JsonObject { ["targetError"] = 0.2 },
-            ["releaseWebhook"] = new JsonObject { ["url"] = "http://127.0.0.1:9/hook", ["secret"] = "0123456789abcdef-secret" },
+            ["releaseWebhook"] = new JsonObject { ["url"] = "http://127.0.0.1:9/hook", ["secret"] = HookReceiver.Secret },
         };
         var patched = await Api.JsonAsync(await owner.PatchAsync($"/api/v1/projects/{keys.ProjectId}",
             new StringContent(patch.ToJsonString(), Encoding.UTF8, "application/merge-patch+json")), 200);
         Assert.Equal(0.2, patched["settings"]!["gate"]!["targetError"]!.GetValue<double>());
         Assert.Equal(10, patched["settings"]!["gate"]!["maxTeachingItems"]!.GetValue<int>());
         Assert.True(patched["releaseWebhook"]!["secretSet"]!.GetValue<bool>());
-        Assert.DoesNotContain("0123456789abcdef-secret", patched.ToJsonString(), StringComparison.Ordinal);
+        Assert.DoesNotContain(HookReceiver.Secret["whsec_".Length..], patched.ToJsonString(), StringComparison.Ordinal);
 
         var read = await Api.JsonAsync(await owner.GetAsync($"/api/v1/projects/{keys.ProjectId}"), 200);
         Assert.Equal(0.2, read["settings"]!["gate"]!["targetError"]!.GetValue<double>());
@@ -42,6 +42,13 @@ public sealed class ProjectAndItemTests
         var fields = problem["errors"]!.AsArray().Select(e => e!["field"]!.GetValue<string>()).ToList();
         Assert.Contains("gate.targetError", fields);
         Assert.Contains("labels", fields);
+
+        // Standard Webhooks secrets: whsec_ and the base64 of 24 to 64 bytes; a password of the older kind is refused.
+        foreach (var secret in new[] { "0123456789abcdef-secret", "whsec_" + Convert.ToBase64String(new byte[16]), "whsec_" + Convert.ToBase64String(new byte[65]) })
+        {
+            var refused = await Api.ProblemAsync(await admin.PostAsJsonAsync("/api/v1/projects", HookReceiver.ProjectWithHook("http://127.0.0.1:9/hook", secret)), 422);
+            Assert.Equal(["releaseWebhook.secret"], refused["errors"]!.AsArray().Select(e => e!["field"]!.GetValue<string>()));
+        }
 
         var typo = TestApp.ProjectJson();
         typo["targetEror"] = 0.1;
@@ -122,7 +129,7 @@ public sealed class ProjectAndItemTests
         using var app = new TestApp(new() { ["TeachServe:Compile:InlineMaxItems"] = "10" });
         var keys = await app.CreateProjectAsync();
         var owner = app.Client(keys.OwnerKey);
-        await Api.JsonAsync(await owner.PostAsync($"/api/v1/projects/{keys.ProjectId}/items", Api.Jsonl(TestApp.ItemsJsonl(4, 4))), 200);
+        await Api.JsonAsync(await owner.PostAsync($"/api/v1/projects/{keys.ProjectId}/items", Api.Jsonl(TestApp.ItemsJsonl(2, 8))), 200);
         var inline = await Api.JsonAsync(await owner.PostAsync($"/api/v1/projects/{keys.ProjectId}/versions", null), 201);
         Assert.Equal("ready", inline["status"]!.GetValue<string>());
         Assert.True(inline["summary"]!["hypotheses"]!.GetValue<int>() > 1);

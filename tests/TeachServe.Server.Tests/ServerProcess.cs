@@ -97,6 +97,15 @@ public sealed class ServerProcess : IDisposable
         _process.WaitForExit(30_000);
     }
 
+    /// <summary>Kills the server and returns everything it printed (the streams read to their end).</summary>
+    public async Task<string> KillAndReadOutputAsync()
+    {
+        _process.Kill(entireProcessTree: true);
+        using var limit = new CancellationTokenSource(TimeSpan.FromSeconds(30));
+        await _process.WaitForExitAsync(limit.Token);
+        return Output;
+    }
+
     public static int FreePort()
     {
         using var listener = new TcpListener(IPAddress.Loopback, 0);

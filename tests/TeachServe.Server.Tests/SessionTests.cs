@@ -22,7 +22,9 @@ public sealed class SessionTests
         var first = await Api.JsonAsync(await embed.PostAsJsonAsync(url, new { workerRef = "w" }), 201);
         var second = await Api.JsonAsync(await embed.PostAsJsonAsync(url, new { workerRef = "w" }), 200);
         Assert.Equal(first["sessionId"]!.GetValue<string>(), second["sessionId"]!.GetValue<string>());
-        Assert.Contains("/annotate/", second["launchUrl"]!.GetValue<string>(), StringComparison.Ordinal);
+        Assert.Contains("/annotate/", first["launchUrl"]!.GetValue<string>(), StringComparison.Ordinal);
+        // Without resume: true the running session comes back without a token (SessionTakeoverTests).
+        Assert.Null(second["token"]);
         // Concurrent starts still make only one session.
         var racing = await Task.WhenAll(Enumerable.Range(0, 6).Select(_ => embed.PostAsJsonAsync(url, new { workerRef = "r" })));
         var ids = new HashSet<string>();
@@ -91,10 +93,13 @@ public sealed class SessionTests
         var s = await app.StartSessionAsync(keys);
         var (final, responses) = await TestApp.RunAsync(s, Honest);
         Assert.Equal("released", final["phase"]!.GetValue<string>());
-        Assert.NotNull(final["evidence"]);
+        // The annotator's token learns the outcome only: no counts that would tell which test answers were wrong.
+        Assert.Null(final["evidence"]);
+        var annotatorView = await Api.JsonAsync(await s.Annotator.GetAsync($"/api/v1/sessions/{s.SessionId}"), 200);
+        Assert.Null(annotatorView["evidence"]);
+        Assert.Null(annotatorView["predictedError"]);
 
-        var view = await Api.JsonAsync(await s.Annotator.GetAsync($"/api/v1/sessions/{s.SessionId}"), 200);
-        var evidence = view["evidence"]!;
+        var evidence = (await app.EvidenceAsync(keys, s.SessionId))!;
         Assert.Equal(0, evidence["testErrors"]!.GetValue<int>());
         Assert.True(evidence["testAnswered"]!.GetValue<int>() > 0);
         Assert.True(evidence["itemsTaught"]!.GetValue<int>() > 0);
@@ -108,6 +113,47 @@ public sealed class SessionTests
         var empty = await Api.JsonAsync(await app.Client(keys.EmbedKey).GetAsync($"/api/v1/projects/{keys.ProjectId}/releases?after={after}"), 200);
         Assert.Empty(empty["releases"]!.AsArray());
         Assert.Equal(after, empty["next"]!.GetValue<string>());
+    }
+
+    [Fact]
+    public async Task A_failed_then_passed_annotator_is_counted_alike_everywhere()
+    {
+        await using var receiver = await HookReceiver.StartAsync();
+        using var app = new TestApp();
+        var project = HookReceiver.ProjectWithHook(receiver.Url, retakes: 1);
+        var keys = await app.ReadyProjectAsync(project);
+        var s = await app.StartSessionAsync(keys, "second-try");
+        var attempt = 0;
+        var (final, responses) = await TestApp.RunAsync(s, (item, phase) =>
+        {
+            if (phase == "teaching") return TestApp.TruthOf(item);
+            // Every answer of the first test wrong, every answer of the retake's test right.
+            var truth = TestApp.TruthOf(item);
+            return attempt == 0 ? (truth == "sound" ? "defect" : "sound") : truth;
+        }, onResponse: r => attempt += r["retake"]?.GetValue<bool>() == true ? 1 : 0);
+        Assert.Equal("released", final["phase"]!.GetValue<string>());
+        Assert.Equal(1, attempt);
+
+        var evidence = (await app.EvidenceAsync(keys, s.SessionId))!;
+        var attempts = evidence["attempts"]!.AsArray();
+        Assert.Equal(2, attempts.Count);
+        Assert.Equal((8, 8, false), (attempts[0]!["answered"]!.GetValue<int>(), attempts[0]!["errors"]!.GetValue<int>(), attempts[0]!["passed"]!.GetValue<bool>()));
+        Assert.Equal((8, 0, true), (attempts[1]!["answered"]!.GetValue<int>(), attempts[1]!["errors"]!.GetValue<int>(), attempts[1]!["passed"]!.GetValue<bool>()));
+        Assert.Equal(16, evidence["testAnswered"]!.GetValue<int>());
+        Assert.Equal(8, evidence["testErrors"]!.GetValue<int>());
+        Assert.Equal(1, evidence["retakesUsed"]!.GetValue<int>());
+        Assert.Equal(16, responses.Count(r => r["recorded"]?.GetValue<bool>() == true));
+
+        var list = await Api.JsonAsync(await app.Client(keys.OwnerKey).GetAsync($"/api/v1/projects/{keys.ProjectId}/sessions"), 200);
+        var row = list["sessions"]!.AsArray().Single(x => x!["sessionId"]!.GetValue<string>() == s.SessionId)!;
+        Assert.Equal(16, row["testAnswered"]!.GetValue<int>());
+        Assert.Equal(evidence.ToJsonString(), row["evidence"]!.ToJsonString());
+
+        var feed = await Api.JsonAsync(await app.Client(keys.EmbedKey).GetAsync($"/api/v1/projects/{keys.ProjectId}/releases"), 200);
+        Assert.Equal(evidence.ToJsonString(), feed["releases"]![0]!["evidence"]!.ToJsonString());
+
+        // The release webhook carries the same evidence.
+        Assert.Equal(evidence.ToJsonString(), (await receiver.NextAsync()).Data["evidence"]!.ToJsonString());
     }
 
     [Fact]
@@ -290,8 +336,8 @@ public sealed class SessionTests
         var fresh = await app.StartSessionAsync(keys, "late");
         Assert.Equal(1, (await Api.JsonAsync(await old.Annotator.GetAsync($"/api/v1/sessions/{old.SessionId}"), 200))["modelVersion"]!.GetValue<int>());
         Assert.Equal(2, (await Api.JsonAsync(await fresh.Annotator.GetAsync($"/api/v1/sessions/{fresh.SessionId}"), 200))["modelVersion"]!.GetValue<int>());
-        var (final, _) = await TestApp.RunAsync(old, Honest);
-        Assert.Equal(1, final["evidence"]!["modelVersion"]!.GetValue<int>());
+        await TestApp.RunAsync(old, Honest);
+        Assert.Equal(1, (await app.EvidenceAsync(keys, old.SessionId))!["modelVersion"]!.GetValue<int>());
     }
 
     [Fact]

@@ -69,6 +69,36 @@ public sealed class SimulationTests
     }
 
     [Fact]
+    public async Task Learner_kinds_unlike_the_model_run_from_the_items_features_and_need_them()
+    {
+        using var app = new TestApp();
+        var keys = await app.ReadyProjectAsync();
+        var owner = app.Client(keys.OwnerKey);
+        var created = await Api.JsonAsync(await owner.PostAsJsonAsync($"/api/v1/projects/{keys.ProjectId}/simulations", new
+        {
+            policies = new[] { "random" }, variants = new[] { "exemplar", "decision-lists" }, learners = 20, seed = 3,
+        }), 202);
+        var done = await WaitAsync(owner, created["simulationId"]!.GetValue<string>(), Ended);
+        Assert.Equal("succeeded", done["status"]!.GetValue<string>());
+        Assert.Equal(["exemplar", "decision-lists"], done["results"]!.AsArray().Select(r => r!["variant"]!.GetValue<string>()));
+
+        // Unknown kinds are refused as before; a project whose items have no features or attributes cannot run them.
+        await Api.ProblemAsync(await owner.PostAsJsonAsync($"/api/v1/projects/{keys.ProjectId}/simulations", new { policies = new[] { "random" }, variants = new[] { "mind-reader" } }), 422);
+        var bare = TestApp.ProjectJson();
+        bare["family"] = new JsonObject { ["kind"] = "table", ["table"] = new JsonArray(new JsonObject { ["name"] = "as taught", ["predictions"] = new JsonObject() }) };
+        var lines = string.Join("\n", Enumerable.Range(0, 20).Select(i => System.Text.Json.JsonSerializer.Serialize(new
+        {
+            id = $"b{i:00}", pool = i < 10 ? "teach" : "test", label = i % 2 == 0 ? "sound" : "defect", content = new { text = $"item {i}" },
+        })));
+        var plain = await app.ReadyProjectAsync(bare, lines);
+        var refused = await Api.ProblemAsync(await app.Client(plain.OwnerKey).PostAsJsonAsync($"/api/v1/projects/{plain.ProjectId}/simulations", new
+        {
+            policies = new[] { "random" }, variants = new[] { "prototype" }, learners = 5,
+        }), 422);
+        Assert.Contains("features", refused["detail"]!.GetValue<string>(), StringComparison.Ordinal);
+    }
+
+    [Fact]
     public async Task A_running_simulation_can_be_canceled_and_pending_jobs_are_bounded()
     {
         using var app = new TestApp(BigJobs(pendingPerProject: 1));

@@ -105,7 +105,49 @@ public sealed partial class StartupTests
         });
         Assert.NotEqual(0, exitCode);
         Assert.Contains("Database:Provider must be 'sqlite' or 'postgres'", message, StringComparison.Ordinal);
-        Assert.Contains("AdminKey must be at least 24 characters", message, StringComparison.Ordinal);
+        Assert.Contains("AdminKey must be 24 to 256 printable characters", message, StringComparison.Ordinal);
+    }
+
+    [Theory]
+    [InlineData("Zm9vYmFyYmF6cXV4cXV1eHF1dXo0Mg==")] // openssl rand -base64 style, with padding
+    [InlineData("correct-horse-battery-staple-42")]
+    [InlineData("tsa.a-configured-admin-key-of-our-form")]
+    public async Task A_configured_admin_key_of_any_accepted_form_works(string configured)
+    {
+        using var app = new TestApp(new() { ["TeachServe:AdminKey"] = configured });
+        await Api.JsonAsync(await app.Client(configured).PostAsJsonAsync("/api/v1/projects", TestApp.ProjectJson()), 201);
+        await Api.ProblemAsync(await app.Client(configured + "x").PostAsJsonAsync("/api/v1/projects", TestApp.ProjectJson()), 401);
+    }
+
+    [Theory]
+    [InlineData("tso.prj_looks-like-an-owner-key-00000")]
+    [InlineData("has a space in the middle of it 000")]
+    public async Task An_admin_key_the_key_check_could_misread_is_refused_at_start_naming_the_form(string configured)
+    {
+        var (exitCode, message) = await ServerProcess.StartExpectingExitAsync(new Dictionary<string, string>
+        {
+            ["TeachServe:DataDirectory"] = TestApp.NewDataDirectory(),
+            ["TeachServe:AdminKey"] = configured,
+        });
+        Assert.NotEqual(0, exitCode);
+        Assert.Contains("AdminKey must be 24 to 256 printable characters without spaces", message, StringComparison.Ordinal);
+    }
+
+    [Fact]
+    public async Task A_first_start_on_an_empty_folder_logs_no_failure_and_no_warning()
+    {
+        // The real process with its shipped settings (the demo project loads), as an operator first starts it.
+        var dir = TestApp.NewDataDirectory();
+        string output;
+        using (var server = await ServerProcess.StartAsync(new Dictionary<string, string> { ["TeachServe:DataDirectory"] = dir }, ServerProcess.FreePort()))
+        {
+            output = await server.KillAndReadOutputAsync();
+        }
+        Assert.Contains("TeachServe is ready.", output, StringComparison.Ordinal);
+        Assert.DoesNotContain("fail:", output, StringComparison.Ordinal);
+        Assert.DoesNotContain("warn:", output, StringComparison.Ordinal);
+        Assert.DoesNotContain("   at ", output, StringComparison.Ordinal);
+        Directory.Delete(dir, recursive: true);
     }
 
     private static string Line(string banner, string name) =>

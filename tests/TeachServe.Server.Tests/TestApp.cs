@@ -3,6 +3,7 @@ using System.Net.Http.Json;
 using System.Text;
 using System.Text.Json;
 using System.Text.Json.Nodes;
+using Microsoft.AspNetCore.Builder;
 using Microsoft.AspNetCore.Hosting;
 using Microsoft.AspNetCore.Mvc.Testing;
 using Microsoft.AspNetCore.TestHost;
@@ -19,9 +20,15 @@ public sealed class TestApp : WebApplicationFactory<Program>
 {
     public const string AdminKey = "tsa.test-admin-key-0123456789abcdef";
     private readonly bool _ownsDirectory;
+    private readonly Action<IServiceCollection>? _services;
 
-    public TestApp(Dictionary<string, string?>? settings = null, string? dataDirectory = null, FakeTimeProvider? time = null)
+    /// <summary>Request header naming the connection's peer address (the test server has none of its own).</summary>
+    public const string PeerHeader = "X-Test-Peer";
+
+    public TestApp(Dictionary<string, string?>? settings = null, string? dataDirectory = null, FakeTimeProvider? time = null,
+        Action<IServiceCollection>? services = null)
     {
+        _services = services;
         _ownsDirectory = dataDirectory is null;
         DataDirectory = dataDirectory ?? NewDataDirectory();
         Settings = settings ?? [];
@@ -57,6 +64,8 @@ public sealed class TestApp : WebApplicationFactory<Program>
             ["TeachServe:LoadDemo"] = "false",
             ["TeachServe:PrintStartupBanner"] = "true",
             ["Logging:LogLevel:Default"] = "Warning",
+            // Webhook receivers in tests listen on loopback; WebhookTests checks the refusal with this off.
+            ["TeachServe:Webhooks:AllowPrivateNetworks"] = "true",
         };
         if (PostgresConnectionString is not null)
         {
@@ -69,6 +78,8 @@ public sealed class TestApp : WebApplicationFactory<Program>
         {
             s.AddSingleton<TimeProvider>(Time);
             s.AddSingleton(new StartupBanner(Banner));
+            s.AddSingleton<IStartupFilter, TestPeerFilter>();
+            _services?.Invoke(s);
         });
     }
 
@@ -129,7 +140,7 @@ public sealed class TestApp : WebApplicationFactory<Program>
             ["confidence"] = 0.8,
             ["maxTeachingItems"] = maxTeaching,
             ["retakes"] = retakes,
-            ["test"] = new JsonObject { ["mode"] = "fixed", ["maxItems"] = testItems, ["delta"] = 0.3 },
+            ["test"] = new JsonObject { ["mode"] = "fixed", ["maxItems"] = testItems, ["delta"] = 0.6 },
         },
     };
 
@@ -163,7 +174,11 @@ public sealed class TestApp : WebApplicationFactory<Program>
     }
 
     /// <summary>Answers until the session ends; <paramref name="answer"/> picks the label from the item shown.</summary>
-    public static async Task<(JsonNode Final, List<JsonNode> Responses)> RunAsync(StartedSession s, Func<JsonNode, string, string> answer, int maxSteps = 200)
+    /// <summary>A session's evidence as its project's owner reads it (the annotator's own token never sees it).</summary>
+    public async Task<JsonNode?> EvidenceAsync(Keys keys, string sessionId) =>
+        (await Api.JsonAsync(await Client(keys.OwnerKey).GetAsync($"/api/v1/sessions/{sessionId}"), 200))["evidence"];
+
+    public static async Task<(JsonNode Final, List<JsonNode> Responses)> RunAsync(StartedSession s, Func<JsonNode, string, string> answer, int maxSteps = 200, Action<JsonNode>? onResponse = null)
     {
         var responses = new List<JsonNode>();
         for (var i = 0; i < maxSteps; i++)
@@ -179,10 +194,26 @@ public sealed class TestApp : WebApplicationFactory<Program>
             });
             var body = await Api.JsonAsync(response, 200);
             responses.Add(body);
+            onResponse?.Invoke(body);
             if (body["phase"]!.GetValue<string>() is "released" or "failed") return (body, responses);
         }
         throw new InvalidOperationException("The session did not end.");
     }
+}
+
+/// <summary>Sets the connection's peer address from <see cref="TestApp.PeerHeader"/>, before anything else sees the request.</summary>
+internal sealed class TestPeerFilter : IStartupFilter
+{
+    public Action<IApplicationBuilder> Configure(Action<IApplicationBuilder> next) => app =>
+    {
+        app.Use((http, nextMiddleware) =>
+        {
+            if (http.Request.Headers.TryGetValue(TestApp.PeerHeader, out var peer) && System.Net.IPAddress.TryParse(peer.ToString(), out var address))
+                http.Connection.RemoteIpAddress = address;
+            return nextMiddleware(http);
+        });
+        next(app);
+    };
 }
 
 public static class Api

@@ -1,4 +1,10 @@
+using System.Globalization;
+using System.Net.Mime;
+using System.Text;
+using System.Text.Json;
 using System.Text.Json.Nodes;
+using CloudNative.CloudEvents;
+using CloudNative.CloudEvents.SystemTextJson;
 using Microsoft.EntityFrameworkCore;
 using Microsoft.Extensions.DependencyInjection;
 using Microsoft.Extensions.Options;
@@ -10,16 +16,14 @@ namespace TeachServe.Server.Tests;
 
 public sealed class WebhookTests
 {
-    private const string Secret = "whsec-0123456789abcdef";
+    private static readonly TimeSpan Tolerance = TimeSpan.FromMinutes(5);
 
-    private static JsonObject WithHook(string url)
-    {
-        var project = TestApp.ProjectJson();
-        project["releaseWebhook"] = new JsonObject { ["url"] = url, ["secret"] = Secret };
-        return project;
-    }
+    private static JsonObject WithHook(string url) => HookReceiver.ProjectWithHook(url);
 
     private static string Honest(JsonNode item, string phase) => TestApp.TruthOf(item);
+
+    private static bool Verified(HookReceiver.Delivery d, TestApp app, string secret = HookReceiver.Secret) =>
+        StandardWebhooksVerifier.Verify(secret, d.Id, d.Timestamp, d.Signature, d.Body, app.Time.GetUtcNow(), Tolerance);
 
     [Fact]
     public async Task Release_is_posted_signed_and_retried_with_backoff()
@@ -33,23 +37,92 @@ public sealed class WebhookTests
 
         var first = await receiver.NextAsync();
         Assert.Equal(503, first.AnsweredWith);
+        Assert.True(Verified(first, app));
         await dispatcher.Idle;
         app.Time.Advance(TimeSpan.FromSeconds(10));
         var second = await receiver.NextAsync();
         Assert.Equal(200, second.AnsweredWith);
-        Assert.Equal(first.DeliveryId, second.DeliveryId);
-        Assert.Equal("session.released", second.EventType);
-        Assert.True(WebhookSignature.Verify(second.Signature!, Secret, second.Body, app.Time.GetUtcNow(), TimeSpan.FromMinutes(5)));
-        Assert.False(WebhookSignature.Verify(second.Signature!, "another-secret-xyz", second.Body, app.Time.GetUtcNow(), TimeSpan.FromMinutes(5)));
-        var payload = JsonNode.Parse(second.Body)!;
-        Assert.Equal(s.SessionId, payload["sessionId"]!.GetValue<string>());
-        Assert.Equal("released", payload["phase"]!.GetValue<string>());
+        // Standard Webhooks, "Webhook metadata": a retry keeps the message's id and carries its own attempt's
+        // timestamp; the body is the stored one, byte for byte.
+        Assert.Equal(first.Id, second.Id);
+        Assert.Equal(first.Body, second.Body);
+        Assert.Equal(long.Parse(first.Timestamp!, CultureInfo.InvariantCulture) + 10, long.Parse(second.Timestamp!, CultureInfo.InvariantCulture));
+        Assert.Equal("org.teachserve.session.released", second.Type);
+        Assert.True(Verified(second, app));
+        Assert.False(Verified(second, app, "whsec_" + Convert.ToBase64String(new byte[32])));
+        Assert.False(Verified(second with { Timestamp = first.Timestamp }, app), "the timestamp is signed");
+        Assert.False(Verified(second with { Body = second.Body.Replace("released", "failed", StringComparison.Ordinal) }, app));
+        Assert.Equal(s.SessionId, second.Data["sessionId"]!.GetValue<string>());
+        Assert.Equal("released", second.Data["phase"]!.GetValue<string>());
 
         await dispatcher.Idle;
         using var scope = app.Services.CreateScope();
         var row = await scope.ServiceProvider.GetRequiredService<TeachServeDb>().Outbox.AsNoTracking().SingleAsync();
         Assert.Equal(OutboxStates.Delivered, row.State);
         Assert.Equal(2, row.Attempts);
+    }
+
+    [Fact]
+    public async Task A_delivery_is_one_CloudEvent_that_the_CNCF_SDK_reads()
+    {
+        await using var receiver = await HookReceiver.StartAsync();
+        using var app = new TestApp();
+        var keys = await app.ReadyProjectAsync(WithHook(receiver.Url));
+        var s = await app.StartSessionAsync(keys, "annotator-7");
+        await TestApp.RunAsync(s, Honest);
+        var delivery = await receiver.NextAsync();
+        var evidence = await app.EvidenceAsync(keys, s.SessionId);
+
+        // cloudevents/spec v1.0.2, bindings/http-protocol-binding.md §3.2.1 and formats/json-format.md §3.
+        var contentType = new ContentType(delivery.ContentType!);
+        Assert.Equal("application/cloudevents+json", contentType.MediaType);
+        var cloudEvent = new JsonEventFormatter().DecodeStructuredModeMessage(Encoding.UTF8.GetBytes(delivery.Body), contentType, null);
+        Assert.True(cloudEvent.IsValid);
+        Assert.Equal(CloudEventsSpecVersion.V1_0, cloudEvent.SpecVersion);
+        Assert.Equal(delivery.Id, cloudEvent.Id);
+        Assert.Equal($"/projects/{keys.ProjectId}", cloudEvent.Source!.OriginalString);
+        Assert.Equal("org.teachserve.session.released", cloudEvent.Type);
+        Assert.Equal(s.SessionId, cloudEvent.Subject);
+        Assert.Equal(app.Time.GetUtcNow(), cloudEvent.Time);
+        Assert.Equal("application/json", cloudEvent.DataContentType);
+        var data = JsonNode.Parse(Assert.IsType<JsonElement>(cloudEvent.Data).GetRawText())!;
+        Assert.Equal(keys.ProjectId, data["projectId"]!.GetValue<string>());
+        Assert.Equal(s.SessionId, data["sessionId"]!.GetValue<string>());
+        Assert.Equal("annotator-7", data["workerRef"]!.GetValue<string>());
+        Assert.Equal("released", data["phase"]!.GetValue<string>());
+        Assert.Equal(1, data["modelVersion"]!.GetValue<int>());
+        Assert.Equal(evidence!.ToJsonString(), data["evidence"]!.ToJsonString());
+        Assert.True(Verified(delivery, app));
+    }
+
+    [Fact]
+    public async Task Without_AllowPrivateNetworks_a_receiver_on_loopback_is_refused_and_never_reached()
+    {
+        await using var receiver = await HookReceiver.StartAsync();
+        using var app = new TestApp(new() { ["TeachServe:Webhooks:AllowPrivateNetworks"] = "false" });
+        var keys = await app.ReadyProjectAsync(WithHook(receiver.Url));
+        var dispatcher = app.Service<OutboxDispatcher>();
+        await TestApp.RunAsync(await app.StartSessionAsync(keys), Honest);
+
+        // No delivery arrives to wait for: wait for the dispatcher's passes until one has recorded the attempt (Idle
+        // may still be the task of the pass before the session ended).
+        using var scope = app.Services.CreateScope();
+        var db = scope.ServiceProvider.GetRequiredService<TeachServeDb>();
+        OutboxMessage row;
+        var passes = 0;
+        do
+        {
+            Assert.True(++passes < 10_000, "The dispatcher made no attempt.");
+            await dispatcher.Idle;
+            await Task.Yield();
+            row = await db.Outbox.AsNoTracking().SingleAsync();
+        }
+        while (row.LastError is null); // a claimed row counts its attempt before the attempt ends
+        Assert.Equal(OutboxStates.Pending, row.State);
+        Assert.Equal(1, row.Attempts);
+        Assert.Contains("not a public address", row.LastError, StringComparison.Ordinal);
+        Assert.Contains("TeachServe:Webhooks:AllowPrivateNetworks", row.LastError, StringComparison.Ordinal);
+        Assert.False(receiver.TryTake(out _));
     }
 
     [Fact]
@@ -61,7 +134,8 @@ public sealed class WebhookTests
         var s = await app.StartSessionAsync(keys);
         await TestApp.RunAsync(s, (item, phase) => phase == "testing" ? (TestApp.TruthOf(item) == "sound" ? "defect" : "sound") : TestApp.TruthOf(item));
         var delivery = await receiver.NextAsync();
-        Assert.Equal("session.failed", delivery.EventType);
+        Assert.Equal("org.teachserve.session.failed", delivery.Type);
+        Assert.Equal("failed", delivery.Data["phase"]!.GetValue<string>());
     }
 
     [Fact]
@@ -81,7 +155,9 @@ public sealed class WebhookTests
             var dispatcher = app.Service<OutboxDispatcher>();
             using var scope = app.Services.CreateScope();
             var db = scope.ServiceProvider.GetRequiredService<TeachServeDb>();
-            while (await db.Outbox.AsNoTracking().AnyAsync(m => m.Attempts == 0)) await dispatcher.Idle.WaitAsync(TimeSpan.FromSeconds(30));
+            // A claimed row counts its attempt before the attempt ends; wait until the failure is recorded (the row's
+            // lease is then replaced by the retry time, which the clock below passes).
+            while (await db.Outbox.AsNoTracking().AnyAsync(m => m.LastError == null)) await dispatcher.Idle.WaitAsync(TimeSpan.FromSeconds(30));
             Assert.Equal(OutboxStates.Pending, (await db.Outbox.AsNoTracking().SingleAsync()).State);
         }
 
@@ -91,7 +167,7 @@ public sealed class WebhookTests
         {
             restarted.Client();
             var delivery = await receiver.NextAsync();
-            Assert.Equal(sessionId, JsonNode.Parse(delivery.Body)!["sessionId"]!.GetValue<string>());
+            Assert.Equal(sessionId, delivery.Data["sessionId"]!.GetValue<string>());
         }
         Microsoft.Data.Sqlite.SqliteConnection.ClearAllPools();
         Directory.Delete(dir, recursive: true);
@@ -110,13 +186,13 @@ public sealed class WebhookTests
         var nextDue = await dispatcher.DeliverDueAsync(CancellationToken.None);
 
         var first = await receiver.NextAsync();
-        Assert.False(receiver.TryTake(out var twice), $"posted twice: delivery {twice?.DeliveryId}");
+        Assert.False(receiver.TryTake(out var twice), $"posted twice: message {twice?.Id}");
         var lease = OutboxDispatcher.ClaimLease(app.Service<IOptions<TeachServeOptions>>().Value.Webhooks);
         Assert.Equal(app.Time.GetUtcNow() + lease, nextDue);
         hold.SetResult();
         await dispatcher.Idle;
         var row = await OutboxRowAsync(app);
-        Assert.Equal(first.DeliveryId, row.Id.ToString(System.Globalization.CultureInfo.InvariantCulture));
+        Assert.Equal(first.Id, row.DeliveryId);
         Assert.Equal(OutboxStates.Delivered, row.State);
         Assert.Equal(1, row.Attempts);
     }
@@ -136,7 +212,7 @@ public sealed class WebhookTests
         app.Time.Advance(lease + TimeSpan.FromSeconds(1));
         await dispatcher.DeliverDueAsync(CancellationToken.None);
         var second = await receiver.NextAsync();
-        Assert.Equal(first.DeliveryId, second.DeliveryId);
+        Assert.Equal(first.Id, second.Id);
         Assert.Equal(200, second.AnsweredWith);
 
         // The first pass now gets its 503; recording it would put a delivered row back to pending.

@@ -1,10 +1,12 @@
 using System.Globalization;
 using System.Text;
 using System.Text.Json;
+using TeachServe.Core.Csv;
 using TeachServe.Core.Model;
 using TeachServe.Core.Projects;
 using TeachServe.Core.Simulation;
 using TeachServe.Core.Teaching;
+using TeachServe.Plots;
 
 namespace TeachServe.Cli.Commands;
 
@@ -32,7 +34,7 @@ internal static class SimulateCommand
             return 2;
         }
 
-        var project = ProjectFolder.Load(options.Positional[0]);
+        var project = ProjectLoader.Load(options.Positional[0]);
         var policies = (options.Value("--compare") ?? options.Value("--policy") ?? project.Settings.Policy)
             .Split(',', StringSplitOptions.RemoveEmptyEntries | StringSplitOptions.TrimEntries);
         var unknown = policies.Where(p => !PolicyNames.All.Contains(p)).ToArray();
@@ -43,6 +45,20 @@ internal static class SimulateCommand
         }
 
         var model = ModelCompiler.Compile(project);
+        ItemFeatures? features = null;
+        if (LearnerKinds.NeedsFeatures(variant))
+        {
+            try
+            {
+                features = ItemFeatures.From(model, project.Items);
+            }
+            catch (ArgumentException e)
+            {
+                error.WriteLine(e.Message);
+                return 2;
+            }
+        }
+
         var json = options.Has("--json");
         var results = new List<SimulationResult>();
         foreach (var policy in policies)
@@ -53,6 +69,8 @@ internal static class SimulateCommand
                 Learners = learners,
                 Seed = seed,
                 Variant = variant,
+                Cost = project.Settings.Cost,
+                Features = features,
             };
             var progress = json ? null : new ProgressBar(error, policy);
             results.Add(Simulator.Run(model, simulation, progress));
@@ -62,10 +80,11 @@ internal static class SimulateCommand
         var compare = options.Value("--compare") is not null;
         if (compare)
         {
-            var outDir = options.Value("--out") ?? ".";
+            var outDir = options.Value("--out") ?? DefaultCompareFolder(options.Positional[0]);
             Directory.CreateDirectory(outDir);
             File.WriteAllText(Path.Combine(outDir, "compare.csv"), CurvesCsv(results));
-            LearningCurvePlot.Save(results, project.Settings.Name, project.Settings.Gate.TargetError, Path.Combine(outDir, "compare"));
+            PlotOutput.SavePngAndSvg(SimulationCurves.Draw(results, project.Settings.Name, project.Settings.Gate.TargetError),
+                Path.Combine(outDir, "compare"), PlotSize.Report);
             if (!json)
             {
                 output.WriteLine($"wrote {Path.Combine(outDir, "compare.csv")}, compare.png, compare.svg");
@@ -128,7 +147,7 @@ internal static class SimulateCommand
         return true;
     }
 
-    public static string VariantName(LearnerVariant v) => JsonNamingPolicy.KebabCaseLower.ConvertName(v.ToString());
+    public static string VariantName(LearnerVariant v) => LearnerKinds.Name(v);
 
     private static object ToJson(SimulationResult r) => new
     {
@@ -152,19 +171,25 @@ internal static class SimulateCommand
 
     internal static string CurvesCsv(IReadOnlyList<SimulationResult> results)
     {
-        var csv = new StringBuilder("policy,variant,step,meanTrueError,low,high\n");
+        var csv = CsvCells.AppendRow(new StringBuilder(), "policy", "variant", "step", "meanTrueError", "low", "high");
         foreach (var r in results)
         {
             foreach (var p in r.Curve)
             {
-                csv.Append(CultureInfo.InvariantCulture, $"{r.Policy},{VariantName(r.Variant)},{p.Step},{p.MeanTrueError:G6},{p.Low:G6},{p.High:G6}\n");
+                CsvCells.AppendRow(csv, r.Policy, VariantName(r.Variant), p.Step.ToString(CultureInfo.InvariantCulture),
+                    p.MeanTrueError.ToString("G6", CultureInfo.InvariantCulture), p.Low.ToString("G6", CultureInfo.InvariantCulture),
+                    p.High.ToString("G6", CultureInfo.InvariantCulture));
             }
         }
 
         return csv.ToString();
     }
 
-    private static void WriteTable(TextWriter output, ProjectDefinition project, ModelVersion model, IReadOnlyList<SimulationResult> results)
+    /// <summary>Without <c>--out</c>, a folder of its own in the working directory, named after the project folder.</summary>
+    internal static string DefaultCompareFolder(string projectDir) =>
+        "compare-" + Path.GetFileName(Path.TrimEndingDirectorySeparator(Path.GetFullPath(projectDir)));
+
+    private static void WriteTable(TextWriter output, ProjectDefinition project, ModelVersion model, List<SimulationResult> results)
     {
         var gate = project.Settings.Gate;
         output.WriteLine($"{project.Settings.Name}: {model.HypothesisCount} hypotheses, {model.TeachCount} teach / {model.TestCount} test items, target error {gate.TargetError}, learners {VariantName(results[0].Variant)} x{results[0].Learners}");

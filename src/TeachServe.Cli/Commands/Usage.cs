@@ -8,6 +8,8 @@ internal static class Usage
         SeedCommand.Synopsis,
         CompileCommand.Usage,
         SimulateCommand.Usage,
+        GateCommand.Usage,
+        RobustnessCommand.Usage,
     ];
 
     public static int Show(TextWriter output)

@@ -20,7 +20,7 @@ internal static class LeafSymptomsSeed
     public const string SpotSize = "spot_size_mm";
     public const string Yellowing = "yellowing";
     public const int TeachPerLabel = 70;
-    public const int TestPerLabel = 30;
+    public const int TestPerLabel = 34;
     public const int FungalSpots = 8;
     public const double DeficientYellowing = 0.5;
 
@@ -50,7 +50,7 @@ internal static class LeafSymptomsSeed
             TargetError = 0.12,
             Confidence = 0.8,
             MaxTeachingItems = 40,
-            Test = new TestSettings { Mode = TestModes.Sequential, MaxItems = 30, Delta = 0.15, Alpha = 0.05, Beta = 0.1 },
+            Test = new TestSettings { Mode = TestModes.Sequential, MaxItems = 50, Delta = 0.2, Alpha = 0.1, Beta = 0.1, TailItems = 4 },
             Retakes = 1,
         },
         Policy = PolicyNames.Adaptive,

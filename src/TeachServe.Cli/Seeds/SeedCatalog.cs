@@ -13,6 +13,9 @@ internal static class SeedCatalog
         new(LeafSymptomsSeed.Name, LeafSymptomsSeed.DefaultSeed,
             "three leaf conditions from SVG drawings; numeric features, stumps family",
             LeafSymptomsSeed.Generate, LeafSymptomsSeed.Readme),
+        new(KitchenStepsSeed.Name, KitchenStepsSeed.DefaultSeed,
+            "recipe steps sorted by station (prep, heat, finish) from their text alone; text family",
+            KitchenStepsSeed.Generate, KitchenStepsSeed.Readme),
     ];
 
     public static SeedProject? Find(string name) => All.FirstOrDefault(s => s.Name == name);

@@ -54,7 +54,7 @@ internal static class TicketTriageSeed
             TargetError = 0.1,
             Confidence = 0.8,
             MaxTeachingItems = 40,
-            Test = new TestSettings { Mode = TestModes.Sequential, MaxItems = 30, Delta = 0.15, Alpha = 0.05, Beta = 0.1 },
+            Test = new TestSettings { Mode = TestModes.Sequential, MaxItems = 50, Delta = 0.2, Alpha = 0.1, Beta = 0.1, TailItems = 4 },
             Retakes = 1,
         },
         Policy = PolicyNames.Adaptive,

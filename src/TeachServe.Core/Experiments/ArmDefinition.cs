@@ -42,6 +42,10 @@ public sealed record GateOverride
     public int? MaxTeachingItems { get; init; }
     public TestOverride? Test { get; init; }
     public int? Retakes { get; init; }
+    /// <summary>Arms may compare teaching with and without the mastery streak and remediation.</summary>
+    public int? MasteryStreak { get; init; }
+    public int? MasteryExtension { get; init; }
+    public string? Remediation { get; init; }
 
     public GateSettings ApplyTo(GateSettings gate)
     {
@@ -53,6 +57,9 @@ public sealed record GateOverride
             MaxTeachingItems = MaxTeachingItems ?? gate.MaxTeachingItems,
             Test = Test is null ? gate.Test : Test.ApplyTo(gate.Test),
             Retakes = Retakes ?? gate.Retakes,
+            MasteryStreak = MasteryStreak ?? gate.MasteryStreak,
+            MasteryExtension = MasteryExtension ?? gate.MasteryExtension,
+            Remediation = Remediation ?? gate.Remediation,
         };
     }
 }
@@ -65,6 +72,7 @@ public sealed record TestOverride
     public double? Delta { get; init; }
     public double? Alpha { get; init; }
     public double? Beta { get; init; }
+    public int? TailItems { get; init; }
 
     public TestSettings ApplyTo(TestSettings test)
     {
@@ -76,6 +84,7 @@ public sealed record TestOverride
             Delta = Delta ?? test.Delta,
             Alpha = Alpha ?? test.Alpha,
             Beta = Beta ?? test.Beta,
+            TailItems = TailItems ?? test.TailItems,
         };
     }
 }

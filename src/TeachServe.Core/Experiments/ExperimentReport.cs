@@ -43,7 +43,7 @@ public static class ExperimentReport
 
         var arms = new ArmSummary[byArm.Length];
         for (var i = 0; i < arms.Length; i++)
-            arms[i] = Summarise(i, definition.Arms[i].Name, weights[i] / weightTotal, byArm[i]);
+            arms[i] = Summarise(i, definition.Arms[i].Name, weights[i] / weightTotal, byArm[i], options.Cost);
 
         var plan = Plan(definition, arms[control], options);
         var comparisons = new List<ArmComparison>();
@@ -87,8 +87,11 @@ public static class ExperimentReport
         }
     }
 
-    private static ArmSummary Summarise(int arm, string name, double share, List<AnnotatorOutcome> outcomes)
+    private static ArmSummary Summarise(int arm, string name, double share, List<AnnotatorOutcome> outcomes, Projects.CostSettings cost)
     {
+        var ended = outcomes.Where(o => o.HasEnded).ToList();
+        double teachingItems = ended.Sum(o => (double)o.TeachingItems), testItems = ended.Sum(o => (double)o.TestAnswered);
+        var paid = (teachingItems * cost.PerTeachingItem) + (testItems * cost.PerTestItem) + ((teachingItems + testItems) * cost.SecondsPerItem / 60.0 * cost.PerMinute);
         var tested = Tested(outcomes);
         var errors = tested.Select(o => o.TestError).ToArray();
         int answers = tested.Sum(o => o.TestAnswered), wrong = tested.Sum(o => o.TestErrors);
@@ -113,6 +116,8 @@ public static class ExperimentReport
             ReleaseRateInterval = ProportionIntervals.Wilson(released.Count, finished),
             MedianItemsToRelease = ReportSeries.Median(released.Select(o => (double)o.TeachingItems)),
             MedianTimeToRelease = ReportSeries.Median(released.Where(o => o.TimeToRelease.HasValue).Select(o => o.TimeToRelease!.Value)),
+            ItemsPerRelease = released.Count == 0 ? double.NaN : (teachingItems + testItems) / released.Count,
+            CostPerRelease = released.Count == 0 ? double.NaN : paid / released.Count,
             LearningCurve = ReportSeries.LearningCurve(outcomes),
             TestErrorHistogram = ReportSeries.TestErrorHistogram(tested),
         };

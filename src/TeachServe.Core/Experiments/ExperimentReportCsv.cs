@@ -1,4 +1,5 @@
 using System.Globalization;
+using TeachServe.Core.Csv;
 
 namespace TeachServe.Core.Experiments;
 
@@ -6,6 +7,7 @@ namespace TeachServe.Core.Experiments;
 /// Writes an experiment's outcomes as CSV, one row per annotator, for researchers to analyse elsewhere: RFC 4180
 /// (CRLF line ends, a cell quoted when it holds a comma, quote or line break, quotes doubled), invariant culture,
 /// times in ISO 8601 round-trip form, numbers in shortest round-trip form, and an empty cell for a missing value.
+/// Text cells (worker references, arm names) are formula-neutralised by <see cref="CsvCells"/>.
 /// </summary>
 public static class ExperimentReportCsv
 {
@@ -22,7 +24,7 @@ public static class ExperimentReportCsv
         ArgumentNullException.ThrowIfNull(writer);
         ArgumentNullException.ThrowIfNull(definition);
         ArgumentNullException.ThrowIfNull(outcomes);
-        WriteRow(writer, Columns);
+        CsvCells.WriteRow(writer, Columns);
         var cells = new string[Columns.Count];
         for (var i = 0; i < outcomes.Count; i++)
         {
@@ -40,7 +42,7 @@ public static class ExperimentReportCsv
             cells[8] = o.TeachingItems.ToString(CultureInfo.InvariantCulture);
             cells[9] = o.TimeToRelease is { } t ? Number(t.TotalSeconds) : string.Empty;
             cells[10] = Number(o.PredictedError);
-            WriteRow(writer, cells);
+            CsvCells.WriteRow(writer, cells);
         }
     }
 
@@ -54,19 +56,4 @@ public static class ExperimentReportCsv
 
     private static string Number(double value) =>
         double.IsFinite(value) ? value.ToString("R", CultureInfo.InvariantCulture) : string.Empty;
-
-    private static void WriteRow(TextWriter writer, IReadOnlyList<string> cells)
-    {
-        for (var i = 0; i < cells.Count; i++)
-        {
-            if (i > 0)
-                writer.Write(',');
-            writer.Write(Quote(cells[i]));
-        }
-
-        writer.Write("\r\n");
-    }
-
-    private static string Quote(string cell) =>
-        cell.AsSpan().IndexOfAny(",\"\r\n") < 0 ? cell : "\"" + cell.Replace("\"", "\"\"", StringComparison.Ordinal) + "\"";
 }

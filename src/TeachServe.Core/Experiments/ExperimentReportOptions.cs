@@ -8,4 +8,7 @@ public sealed record ExperimentReportOptions
 
     /// <summary>Two-sided level the sample planner and the current power use, in (0, 1).</summary>
     public double PlanningAlpha { get; init; } = 0.05;
+
+    /// <summary>The project's costs, for <see cref="ArmSummary.CostPerRelease"/>.</summary>
+    public Projects.CostSettings Cost { get; init; } = new();
 }

@@ -60,6 +60,14 @@ public sealed record ArmSummary
     public required double MedianItemsToRelease { get; init; }
     /// <summary>Median time to release of released annotators whose time is known; <see langword="null"/> when none.</summary>
     public required TimeSpan? MedianTimeToRelease { get; init; }
+    /// <summary>All items (teaching and test) answered by the arm's ended annotators, over its releases; NaN when none.</summary>
+    public double ItemsPerRelease { get; init; }
+    /// <summary>
+    /// What the arm's ended annotators cost (items and assumed minutes, priced by the project's cost settings, failures
+    /// included), over its releases; NaN when none. Whether a real annotator's release was qualified is not known, so
+    /// this is per release; the simulator reports the cost per qualified release.
+    /// </summary>
+    public double CostPerRelease { get; init; }
 
     /// <summary>Mean predicted error by teaching step; empty when no annotator has a learning curve.</summary>
     public required IReadOnlyList<LearningCurvePoint> LearningCurve { get; init; }

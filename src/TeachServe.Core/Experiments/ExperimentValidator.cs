@@ -12,13 +12,24 @@ public static class ExperimentValidator
     public const int MinArms = 2;
     public const int MaxArms = 10;
 
+    /// <summary>
+    /// The smallest minimum detectable effect: below it the sample-size plan needs more annotators than exist
+    /// (at 0.001 and a baseline of 0.5, about 7.8 million per arm), and its arithmetic loses meaning long before 1e-300.
+    /// </summary>
+    public const double MinDetectableEffect = 0.001;
+
+    /// <summary>The largest allocation weight; weights are relative, so a ratio of a million to one is already extreme.</summary>
+    public const double MaxWeight = 1e6;
+
     /// <param name="definition">The experiment to check.</param>
     /// <param name="baseGate">
     /// The project's gate the arms override, when known: an override of only the target error or only the test's
     /// delta is then also checked for <c>targetError + delta &lt; 1</c> against the other, base value. Without it
     /// that rule is checked only for arms that override both.
     /// </param>
-    public static IReadOnlyList<ExperimentProblem> Validate(ExperimentDefinition definition, GateSettings? baseGate = null)
+    /// <param name="labelCount">The project's label count; with <paramref name="lapse"/> and the base gate, each arm's whole gate is checked for a test that keeps its error rates.</param>
+    /// <param name="lapse">The project's lapse rate.</param>
+    public static IReadOnlyList<ExperimentProblem> Validate(ExperimentDefinition definition, GateSettings? baseGate = null, int? labelCount = null, double? lapse = null)
     {
         ArgumentNullException.ThrowIfNull(definition);
         var problems = new List<ExperimentProblem>();
@@ -37,8 +48,8 @@ public static class ExperimentValidator
         if (!ExperimentMetrics.All.Contains(definition.PrimaryMetric))
             Check("primaryMetric", $"unknown metric '{definition.PrimaryMetric}'; expected {string.Join(", ", ExperimentMetrics.All)}");
         var mde = definition.MinimumDetectableEffect;
-        if (!(mde > 0 && mde < 1))
-            Check("minimumDetectableEffect", $"must be in (0, 1), not {mde}");
+        if (!(mde >= MinDetectableEffect && mde < 1))
+            Check("minimumDetectableEffect", FormattableString.Invariant($"must be in [{MinDetectableEffect}, 1), not {mde}"));
 
         var arms = definition.Arms;
         if (arms is null)
@@ -68,18 +79,32 @@ public static class ExperimentValidator
             if (arm.BlendWeight is { } blend)
                 Check(FieldPath.Member(path, "blendWeight"), SettingRules.BlendWeight(blend));
             if (arm.Gate is { } gate)
+            {
+                var before = problems.Count;
                 Gate(FieldPath.Member(path, "gate"), gate, baseGate, Check);
+                if (problems.Count == before && baseGate is not null && labelCount is { } k && lapse is { } l)
+                    Check(FieldPath.Member(path, "gate.test.maxItems"), SettingRules.TestDesign(gate.ApplyTo(baseGate), k, l));
+            }
         }
 
         if (definition.Weights is { } weights)
         {
             if (weights.Count != arms.Count)
                 Check("weights", $"one weight per arm is needed: {arms.Count} arms, {weights.Count} weights");
+            var sum = 0.0;
+            var each = true;
             for (var i = 0; i < weights.Count; i++)
             {
-                if (!(weights[i] > 0 && double.IsFinite(weights[i])))
-                    Check(FieldPath.Index("weights", i), $"must be a finite number > 0, not {weights[i]}");
+                sum += weights[i];
+                if (!(weights[i] > 0 && weights[i] <= MaxWeight))
+                {
+                    each = false;
+                    Check(FieldPath.Index("weights", i), FormattableString.Invariant($"must be a finite number in (0, {MaxWeight:G}], not {weights[i]}"));
+                }
             }
+            // Each weight in range keeps the sum finite; checked anyway, because the report divides by it.
+            if (each && !double.IsFinite(sum))
+                Check("weights", FormattableString.Invariant($"the weights must sum to a finite number, not {sum}"));
         }
 
         if (definition.ControlArm is { } control && definition.ControlArmIndex() < 0)
@@ -97,6 +122,12 @@ public static class ExperimentValidator
             check(FieldPath.Member(path, "maxTeachingItems"), SettingRules.MaxTeachingItems(items));
         if (gate.Retakes is { } retakes)
             check(FieldPath.Member(path, "retakes"), SettingRules.Retakes(retakes));
+        if (gate.MasteryStreak is { } streak)
+            check(FieldPath.Member(path, "masteryStreak"), SettingRules.MasteryStreak(streak));
+        if (gate.MasteryExtension is { } extension)
+            check(FieldPath.Member(path, "masteryExtension"), SettingRules.MasteryExtension(extension));
+        if (gate.Remediation is { } remediation)
+            check(FieldPath.Member(path, "remediation"), SettingRules.Remediation(remediation));
 
         var test = gate.Test;
         var testPath = FieldPath.Member(path, "test");
@@ -110,6 +141,8 @@ public static class ExperimentValidator
                 check(FieldPath.Member(testPath, "alpha"), SettingRules.TestAlpha(alpha));
             if (test.Beta is { } beta)
                 check(FieldPath.Member(testPath, "beta"), SettingRules.TestBeta(beta));
+            if (test.TailItems is { } tail)
+                check(FieldPath.Member(testPath, "tailItems"), SettingRules.TestTailItems(tail));
         }
 
         // targetError + delta < 1 needs both values: each comes from the override or, when known, the base gate.

@@ -1,17 +1,37 @@
+using TeachServe.Core.Model;
+
 namespace TeachServe.Core.Hypotheses;
 
 /// <summary>
 /// Linear rules over standardised numeric features (DESIGN 2.6): the fitted logistic direction, perturbed copies
 /// of it at several scales, one- and two-feature cues with both signs, and random directions with
-/// class-balanced offsets.
+/// class-balanced offsets. Projects with more than two labels or more than <see cref="LowDimensionLimit"/>
+/// features get <see cref="WideLinearFamily"/> instead, whose rules stay near the fitted target.
 /// </summary>
 public static class LinearFamily
 {
     private static readonly double[] PerturbationScales = [0.05, 0.15, 0.3, 0.6, 1.0];
 
-    public static void Generate(FamilyInput input, HypothesisPool pool)
+    /// <summary>
+    /// Two-label projects with at most this many features keep the original generator (every one- and two-feature
+    /// cue, perturbations in all features): in few dimensions they stay near the target, and the seed projects'
+    /// hypothesis sets stay as they were.
+    /// </summary>
+    public const int LowDimensionLimit = 8;
+
+    public static void Generate(FamilyInput input, HypothesisPool pool) => Generate(input, pool, new CompileProgressReporter(null));
+
+    public static void Generate(FamilyInput input, HypothesisPool pool, CompileProgressReporter progress)
     {
+        progress.Begin("features", CompileSteps.Hypotheses);
         var (names, rows) = input.StandardisedFeatures();
+        var columns = new FeatureColumns(rows);
+        if (input.LabelCount > 2 || names.Length > LowDimensionLimit)
+        {
+            WideLinearFamily.Generate(input, pool, progress, rows, columns, PerturbationScales);
+            return;
+        }
+
         var d = names.Length;
         var k = input.LabelCount;
         var settings = input.Settings;
@@ -19,16 +39,18 @@ public static class LinearFamily
         var bias = settings.SimplicityBias;
         double Weight(int complexity) => Math.Pow(bias, -(complexity - 1));
 
+        progress.Begin("target fit", CompileSteps.Hypotheses, 0.02);
         var fitted = LogisticFit.Fit(rows, input.Labels, k);
-        pool.Add(LogisticFit.Predict(rows, fitted), Weight(d));
+        pool.Add(columns.Predict(fitted), Weight(d));
 
+        progress.Begin("perturbed copies", CompileSteps.Hypotheses, 0.1);
         var norm = Math.Sqrt(fitted.Sum(r => r.Sum(v => v * v)) / k);
         foreach (var scale in PerturbationScales)
         {
             for (var copy = 0; copy < settings.PerturbedCopies; copy++)
             {
                 var w = fitted.Select(r => r.Select(v => v + (scale * norm * random.NextGaussian())).ToArray()).ToArray();
-                pool.Add(LogisticFit.Predict(rows, w), Weight(d));
+                pool.Add(columns.Predict(w), Weight(d));
             }
         }
 
@@ -47,8 +69,11 @@ public static class LinearFamily
             }
         }
 
-        foreach (var subset in subsets)
+        progress.Begin("cues", CompileSteps.Hypotheses, 0.15);
+        for (var index = 0; index < subsets.Count; index++)
         {
+            var subset = subsets[index];
+            progress.Report(CompileSteps.Hypotheses, 0.15 + (0.7 * index / subsets.Count));
             if (k == 2)
             {
                 AddSignedCues(rows, input.Labels, subset, pool, Weight(subset.Length));
@@ -56,15 +81,16 @@ public static class LinearFamily
             else
             {
                 var w = LogisticFit.Fit(rows, input.Labels, k, subset);
-                pool.Add(LogisticFit.Predict(rows, w), Weight(subset.Length));
+                pool.Add(columns.Predict(w), Weight(subset.Length));
                 foreach (var scale in PerturbationScales)
                 {
                     var perturbed = w.Select(r => r.Select((v, idx) => idx == r.Length - 1 || subset.Contains(idx) ? v + (scale * random.NextGaussian()) : v).ToArray()).ToArray();
-                    pool.Add(LogisticFit.Predict(rows, perturbed), Weight(subset.Length));
+                    pool.Add(columns.Predict(perturbed), Weight(subset.Length));
                 }
             }
         }
 
+        progress.Begin("random directions", CompileSteps.Hypotheses, 0.85);
         var classShare = Enumerable.Range(0, k).Select(c => (double)input.Labels.Count(l => l == c) / input.ItemCount).ToArray();
         for (var r = 0; r < settings.RandomDirections; r++)
         {
@@ -87,14 +113,14 @@ public static class LinearFamily
             }
             else
             {
-                w = BalanceOffsets(rows, w, classShare);
+                w = BalanceOffsets(columns, w, classShare);
             }
 
-            pool.Add(LogisticFit.Predict(rows, w), Weight(d));
+            pool.Add(columns.Predict(w), Weight(d));
         }
     }
 
-    private static void AddSignedCues(double[][] rows, int[] labels, int[] subset, HypothesisPool pool, double weight)
+    internal static void AddSignedCues(double[][] rows, int[] labels, int[] subset, HypothesisPool pool, double weight)
     {
         var signs = 1 << subset.Length;
         var positiveShare = (double)labels.Count(l => l == 1) / labels.Length;
@@ -132,11 +158,11 @@ public static class LinearFamily
     }
 
     /// <summary>A few rounds of nudging intercepts so that predicted class shares approach the true shares.</summary>
-    private static double[][] BalanceOffsets(double[][] rows, double[][] w, double[] share)
+    private static double[][] BalanceOffsets(FeatureColumns columns, double[][] w, double[] share)
     {
         for (var round = 0; round < 20; round++)
         {
-            var predictions = LogisticFit.Predict(rows, w);
+            var predictions = columns.Predict(w);
             for (var c = 0; c < w.Length; c++)
             {
                 var predictedShare = (double)predictions.Count(p => p == c) / predictions.Length;

@@ -62,17 +62,23 @@ public sealed class Belief
     }
 
     /// <summary>A teaching answer: observe the answer, then the learner sees the true label and may switch.</summary>
-    public void Teach(int item, int answer)
+    /// <returns>The probability the belief gave this answer before seeing it (see <see cref="Observe"/>).</returns>
+    public double Teach(int item, int answer)
     {
-        Observe(item, answer);
+        var predictive = Observe(item, answer);
         Move(item);
+        return predictive;
     }
 
     /// <summary>
     /// Step 1: β'(h) ∝ β(h)·o(a|h,x), o = (1−lapse)·1[h(x)=a] + lapse/K. A test answer applies only this step.
     /// An answer no hypothesis can explain (possible only with lapse 0) carries no usable information and is ignored.
     /// </summary>
-    public void Observe(int item, int answer)
+    /// <returns>
+    /// The predictive probability of the answer under the model, Σ_h β(h)·o(a|h,x): the normaliser of this step,
+    /// so the product over a session's answers is the model's marginal likelihood of them (0 when ignored).
+    /// </returns>
+    public double Observe(int item, int answer)
     {
         var k = _model.LabelCount;
         var agree = 1.0 - Lapse + (Lapse / k);
@@ -97,7 +103,7 @@ public sealed class Belief
         var total = (agree * agreeMass) + (disagree * (1.0 - agreeMass));
         if (!(total > 0))
         {
-            return;
+            return 0.0;
         }
 
         factor[0] = disagree / total;
@@ -107,6 +113,8 @@ public sealed class Belief
             var agrees = k == 2 ? (int)(((row[h >> 6] ^ flip) >> (h & 63)) & 1) : (predictions[h] == answer ? 1 : 0);
             _belief[h] *= factor[agrees];
         }
+
+        return total;
     }
 
     /// <summary>

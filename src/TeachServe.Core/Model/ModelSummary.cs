@@ -21,7 +21,77 @@ public sealed record ModelSummary
     public required int TeachingDimensionEstimate { get; init; }
     /// <summary>Prior mass still consistent with every teach item once the cover sequence ends (hypotheses the teach pool cannot rule out).</summary>
     public required double UnteachablePriorMass { get; init; }
+    /// <summary>Error limit of <see cref="PriorMassNearTarget"/>: the gate's target error + 0.1 (0.1 + 0.1 for versions built without settings).</summary>
+    public double NearTargetErrorLimit { get; init; }
+    /// <summary>
+    /// Prior mass of hypotheses other than the truth labelling with err(h) ≤ <see cref="NearTargetErrorLimit"/>:
+    /// how much of the hypothesis set sits where a learner close to qualifying would be.
+    /// </summary>
+    public double PriorMassNearTarget { get; init; }
     public required double Alpha { get; init; }
     public required double Q { get; init; }
     public required double CompileMilliseconds { get; init; }
+    /// <summary>Approximate bytes the compiled version occupies in memory (its arrays; see <c>ModelCompiler</c>).</summary>
+    public long MemoryBytes { get; init; }
+    /// <summary>For the <c>text</c> and <c>embedding</c> families: the vectors the rules were built on; null otherwise.</summary>
+    public VectorSummary? Vectors { get; init; }
+    /// <summary>The test the project's gate runs on this version and its operating characteristic; null for versions built without settings.</summary>
+    public GateSummary? Gate { get; init; }
+}
+
+/// <summary>How the item vectors of a <c>text</c> or <c>embedding</c> version were made and reduced.</summary>
+public sealed record VectorSummary
+{
+    /// <summary>The sentence-embedding model (family <c>text</c>); null for vectors the platform sent.</summary>
+    public string? Model { get; init; }
+    /// <summary>Length of each item vector.</summary>
+    public required int Length { get; init; }
+    /// <summary>Principal components kept (the rules' feature count).</summary>
+    public required int Dimensions { get; init; }
+    /// <summary>Share of the vectors' variance the kept components explain.</summary>
+    public required double ExplainedVariance { get; init; }
+}
+
+/// <summary>A gate's test as compiled: exact rates, lengths and the operating characteristic (DESIGN 1).</summary>
+public sealed record GateSummary
+{
+    public required string Mode { get; init; }
+    /// <summary>Most items one attempt counts (the longest length up to the setting whose test keeps the rates).</summary>
+    public required int MaxItems { get; init; }
+    public required int Attempts { get; init; }
+    /// <summary>Answer error rates the test separates: the target's and target + delta's, lapses mapped in.</summary>
+    public required double AnswerErrorAtTarget { get; init; }
+    public required double AnswerErrorAtLimit { get; init; }
+    /// <summary>Exact P(an attempt fails | rule error = target).</summary>
+    public required double AttemptAlpha { get; init; }
+    /// <summary>Exact P(an attempt releases | rule error = target + delta); at most beta / attempts.</summary>
+    public required double AttemptBeta { get; init; }
+    /// <summary>False when no test of the setting's length keeps the rates (the closest fixed test runs instead).</summary>
+    public required bool MeetsSettings { get; init; }
+    public required IReadOnlyList<Teaching.OperatingPoint> OperatingCharacteristic { get; init; }
+    /// <summary>Things an owner should know, e.g. a test pool too small for fresh items at every attempt.</summary>
+    public required IReadOnlyList<string> Warnings { get; init; }
+
+    public static GateSummary Of(Teaching.GateDesign design, int testItems)
+    {
+        var warnings = new List<string>();
+        if (design.Shortfall is { } shortfall)
+            warnings.Add(shortfall.ToString());
+        var needed = design.Attempts * design.Test.MaxItems;
+        if (testItems < needed)
+            warnings.Add($"The test pool holds {testItems} items; {design.Attempts} attempt(s) of up to {design.Test.MaxItems} items need {needed} for fresh items each time, so a retake may reuse items the annotator has seen (never twice within one attempt).");
+        return new GateSummary
+        {
+            Mode = design.Gate.Test.Mode,
+            MaxItems = design.Test.MaxItems,
+            Attempts = design.Attempts,
+            AnswerErrorAtTarget = design.Test.P0,
+            AnswerErrorAtLimit = design.Test.P1,
+            AttemptAlpha = design.Test.AchievedAlpha,
+            AttemptBeta = design.Test.AchievedBeta,
+            MeetsSettings = design.Shortfall is null,
+            OperatingCharacteristic = design.OperatingCharacteristic(design.StandardErrorRates()),
+            Warnings = warnings,
+        };
+    }
 }

@@ -73,7 +73,7 @@ public sealed class ModelVersion
     /// <summary>The noise-free greedy set-cover order, until no item eliminates any further prior mass.</summary>
     public IReadOnlyList<int> CoverSequence { get; }
 
-    public ModelSummary Summary { get; }
+    public ModelSummary Summary { get; internal set; }
 
     public ReadOnlySpan<double> Error => _error;
     internal double[] ErrorArray => _error;

@@ -10,6 +10,11 @@ public sealed record ItemDefinition
     public required string Label { get; init; }
     public IReadOnlyDictionary<string, double>? Features { get; init; }
     public IReadOnlyList<string>? Attributes { get; init; }
+    /// <summary>
+    /// A vector the platform computed for the item (family <c>embedding</c>), or the server's text embedding (family
+    /// <c>text</c>); the same length on every item, finite numbers.
+    /// </summary>
+    public float[]? Embedding { get; init; }
     public ItemContent? Content { get; init; }
     public string? Explanation { get; init; }
 }
@@ -29,4 +34,8 @@ public static class Pools
 }
 
 /// <summary>A project as loaded: settings plus items, already validated.</summary>
-public sealed record ProjectDefinition(ProjectSettings Settings, IReadOnlyList<ItemDefinition> Items);
+public sealed record ProjectDefinition(ProjectSettings Settings, IReadOnlyList<ItemDefinition> Items)
+{
+    /// <summary>The model that embedded the item texts (family <c>text</c>), recorded in the version summary.</summary>
+    public string? EmbeddingModel { get; init; }
+}

@@ -1,4 +1,5 @@
 using System.Text.Json.Serialization;
+using TeachServe.Core.Hypotheses;
 
 namespace TeachServe.Core.Projects;
 
@@ -11,10 +12,33 @@ public sealed record ProjectSettings
     public LearnerSettings Learner { get; init; } = new();
     public GateSettings Gate { get; init; } = new();
     public string Policy { get; init; } = PolicyNames.Adaptive;
-    /// <summary>Weight of the stochastic-greedy gain added to the adaptive gain (DESIGN 2.4); 2 was chosen by simulation on the seed projects (README).</summary>
+    /// <summary>Weight of the stochastic-greedy gain added to the adaptive gain (DESIGN 2.4); 2 was chosen by simulation on the seed projects (docs/research.md).</summary>
     public double BlendWeight { get; init; } = 2.0;
     /// <summary>What the annotator page says when a session ends; absent means the page's own wording.</summary>
     public CompletionSettings? Completion { get; init; }
+    /// <summary>What onboarding costs the platform, for comparing gates and policies by cost per qualified release.</summary>
+    public CostSettings Cost { get; init; } = new();
+}
+
+/// <summary>
+/// Costs in the owner's own unit (any currency): pay for annotator time and items, and the price of the gate's two
+/// mistakes. Reports divide the total by the number of *qualified* releases (released and within target, known in
+/// simulation), so a cheap gate that releases unqualified annotators does not look cheap.
+/// </summary>
+public sealed record CostSettings
+{
+    /// <summary>Paid per teaching item answered.</summary>
+    public double PerTeachingItem { get; init; } = 0.05;
+    /// <summary>Paid per test item answered (the tail included).</summary>
+    public double PerTestItem { get; init; } = 0.05;
+    /// <summary>Paid per minute of onboarding, with <see cref="SecondsPerItem"/> as the assumed time per item.</summary>
+    public double PerMinute { get; init; }
+    /// <summary>Assumed seconds an annotator spends per item, for <see cref="PerMinute"/> (measured times come from the sessions' events).</summary>
+    public double SecondsPerItem { get; init; } = 20;
+    /// <summary>The cost of releasing an annotator whose rule error exceeds the target (rework, bad labels).</summary>
+    public double FalseRelease { get; init; } = 20;
+    /// <summary>The cost of not releasing an annotator who was within target (recruiting another).</summary>
+    public double FailedQualified { get; init; } = 2;
 }
 
 /// <summary>The end of onboarding as the annotator sees it: what happens next after a release or a failed test.</summary>
@@ -33,7 +57,7 @@ public sealed record CompletionSettings
 /// <summary>How the hypotheses of a project are generated (DESIGN 2.6).</summary>
 public sealed record FamilySettings
 {
-    /// <summary><c>linear</c>, <c>cues</c>, <c>stumps</c> or <c>table</c>.</summary>
+    /// <summary><c>linear</c>, <c>cues</c>, <c>stumps</c>, <c>table</c>, <c>text</c> (item texts embedded by the server) or <c>embedding</c> (vectors sent with the items).</summary>
     public required string Kind { get; init; }
     public int Seed { get; init; } = 1;
     /// <summary>linear: number of random directions.</summary>
@@ -46,6 +70,8 @@ public sealed record FamilySettings
     public int CandidateCues { get; init; } = 8;
     /// <summary>Prior weight multiplier per unit of rule complexity; 1 = uniform prior.</summary>
     public double SimplicityBias { get; init; } = 1.0;
+    /// <summary>text and embedding: principal components the item vectors are reduced to before the linear rules are built.</summary>
+    public int Dimensions { get; init; } = EmbeddingFeatures.DefaultDimensions;
     /// <summary>table: predictions, one row per hypothesis, one label name per item id.</summary>
     public IReadOnlyList<TableHypothesis>? Table { get; init; }
 }
@@ -73,26 +99,72 @@ public sealed record GateSettings
     public double Confidence { get; init; } = 0.8;
     public int MaxTeachingItems { get; init; } = 40;
     public TestSettings Test { get; init; } = new();
+    /// <summary>Tests after the first; beta is spent over all attempts (see <c>GateDesign</c>).</summary>
     public int Retakes { get; init; } = 1;
     /// <summary>Also require the belief after the test answers to meet the target.</summary>
     public bool RequireBeliefAfterTest { get; init; }
+    /// <summary>
+    /// Teaching ends only after this many right answers in a row (besides the belief's own criterion), so an
+    /// annotator who still makes mistakes the model did not expect keeps being taught; 0 turns the rule off.
+    /// </summary>
+    public int MasteryStreak { get; init; } = 3;
+    /// <summary>
+    /// Each mistake made in remediation (the belief satisfied, the streak not yet reached: a mistake the model did not
+    /// expect) lengthens the streak needed by this many answers, up to three times this many; 0 turns it off.
+    /// </summary>
+    public int MasteryExtension { get; init; } = 3;
+    /// <summary>
+    /// How items are chosen while the belief is satisfied but the annotator's answers are not (the mastery streak
+    /// not yet reached): <c>representative</c> (uniformly from the unshown teach items, so the pool's spread of
+    /// cases is covered) or <c>policy</c> (the policy's own choice).
+    /// </summary>
+    public string Remediation { get; init; } = RemediationModes.Representative;
 }
 
+public static class RemediationModes
+{
+    public const string Representative = "representative";
+    public const string Policy = "policy";
+}
+
+/// <summary>
+/// The held-out test of one attempt. Rates are exact and stated on rule error, the lapse rate mapped in: P(fail) ≤
+/// alpha for an annotator whose rule error is the target, P(release over all attempts) ≤ beta for one at
+/// target + delta. The defaults need at most 50 items (two labels, lapse 0.05, one retake).
+/// </summary>
 public sealed record TestSettings
 {
-    /// <summary><c>sequential</c> (Wald SPRT) or <c>fixed</c> (one-sided Wilson bound).</summary>
+    /// <summary><c>sequential</c> (exact truncated sequential test), <c>fixed</c> (all items, then one cut) or <c>belief</c> (see <see cref="TestModes.Belief"/>).</summary>
     public string Mode { get; init; } = TestModes.Sequential;
-    public int MaxItems { get; init; } = 30;
+    /// <summary>Most items one attempt counts; the test pool should hold (retakes + 1) × this many.</summary>
+    public int MaxItems { get; init; } = 50;
     /// <summary>Indifference width: the test separates error ≤ target from error ≥ target + delta.</summary>
-    public double Delta { get; init; } = 0.15;
-    public double Alpha { get; init; } = 0.05;
+    public double Delta { get; init; } = 0.2;
+    /// <summary>Largest probability of failing an annotator exactly at target, per attempt.</summary>
+    public double Alpha { get; init; } = 0.1;
+    /// <summary>Largest probability of releasing an annotator at target + delta, over all attempts.</summary>
     public double Beta { get; init; } = 0.1;
+    /// <summary>
+    /// Sequential mode: after the test decides, 0 to this many further items (uniformly) are served and recorded
+    /// but not counted, so the answer that decided cannot be told from the attempt's end.
+    /// </summary>
+    public int TailItems { get; init; } = 4;
+    /// <summary>Belief mode: counted test answers needed before the belief may release.</summary>
+    public int MinItems { get; init; } = 4;
+    /// <summary>
+    /// Exposure target r_max: the share of tested sessions any one test item should be shown to, in (0, 1]. Above it,
+    /// an item drawn for a test is passed over with probability 1 − r_max / (its observed rate) (Sympson &amp; Hetter
+    /// 1985). 1 (the default) turns exposure control off.
+    /// </summary>
+    public double MaxExposure { get; init; } = 1.0;
 }
 
 public static class TestModes
 {
     public const string Sequential = "sequential";
     public const string Fixed = "fixed";
+    /// <summary>The belief (with guessing and unexplained sources) may release early; the sequential test guards.</summary>
+    public const string Belief = "belief";
 }
 
 public static class PolicyNames
@@ -111,5 +183,12 @@ public static class FamilyKinds
     public const string Cues = "cues";
     public const string Stumps = "stumps";
     public const string Table = "table";
-    public static readonly IReadOnlyList<string> All = [Linear, Cues, Stumps, Table];
+    /// <summary>Linear rules over principal components of the server's embeddings of the item texts.</summary>
+    public const string Text = "text";
+    /// <summary>Linear rules over principal components of the vectors the platform sent with the items.</summary>
+    public const string Embedding = "embedding";
+    public static readonly IReadOnlyList<string> All = [Linear, Cues, Stumps, Table, Text, Embedding];
+
+    /// <summary>Families whose rules are built on item vectors (reduced by <see cref="EmbeddingFeatures"/>).</summary>
+    public static bool UsesVectors(string? kind) => kind is Text or Embedding;
 }

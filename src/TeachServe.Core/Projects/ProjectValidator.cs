@@ -22,6 +22,24 @@ public static class ProjectValidator
         return run.Problems;
     }
 
+    /// <summary>
+    /// Compile-time check of a valid project: the test pool must hold at least one whole attempt, or the test could
+    /// not reach the length its error rates rest on. (A pool smaller than every attempt together only warns: retakes
+    /// then reuse items, see the version summary.)
+    /// </summary>
+    public static ProjectProblem? TestPool(ProjectSettings settings, IReadOnlyList<ItemDefinition> items, ProjectSources sources)
+    {
+        ArgumentNullException.ThrowIfNull(settings);
+        ArgumentNullException.ThrowIfNull(sources);
+        var test = items.Count(i => i?.Pool == Pools.Test);
+        if (settings.Gate?.Test is null || settings.Labels is not { Count: >= 2 } || settings.Learner is not { Lapse: >= 0 and < 1 }
+            || !Teaching.GateDesign.TryCreate(settings.Gate, settings.Labels.Count, settings.Learner.Lapse, out var design, out _)
+            || test >= design.Test.MaxItems)
+            return null;
+        return new ProjectProblem(sources.ItemsFile, null, "items",
+            $"the test pool holds {test} items, and one test attempt may need {design.Test.MaxItems} (gate.test.maxItems): add test items or shorten the test");
+    }
+
     private sealed class Run(ProjectSources sources)
     {
         public List<ProjectProblem> Problems { get; } = [];
@@ -36,6 +54,9 @@ public static class ProjectValidator
             Check("blendWeight", SettingRules.BlendWeight(s.BlendWeight));
             Learner(s.Learner);
             Gate(s.Gate);
+            Cost(s.Cost);
+            if (Problems.Count == 0 && s.Gate?.Test is not null && s.Labels is { } labels && s.Learner is { } learner)
+                Check("gate.test.maxItems", SettingRules.TestDesign(s.Gate, labels.Count, learner.Lapse));
         }
 
         private void Labels(IReadOnlyList<string>? labels)
@@ -75,6 +96,8 @@ public static class ProjectValidator
                 Setting("family.maxCues", $"must be ≥ 1, not {f.MaxCues}");
             if (f.CandidateCues < 1)
                 Setting("family.candidateCues", $"must be ≥ 1, not {f.CandidateCues}");
+            if (f.Dimensions is < Hypotheses.EmbeddingFeatures.MinDimensions or > Hypotheses.EmbeddingFeatures.MaxDimensions)
+                Setting("family.dimensions", $"must be {Hypotheses.EmbeddingFeatures.MinDimensions} to {Hypotheses.EmbeddingFeatures.MaxDimensions}, not {f.Dimensions}");
             if (!(f.SimplicityBias > 0 && double.IsFinite(f.SimplicityBias)))
                 Setting("family.simplicityBias", $"must be a finite number > 0, not {f.SimplicityBias}");
         }
@@ -90,6 +113,18 @@ public static class ProjectValidator
             Check("learner.lapse", SettingRules.LearnerLapse(l.Lapse));
         }
 
+        private void Cost(CostSettings? c)
+        {
+            if (c is null)
+                return;
+            Check("cost.perTeachingItem", SettingRules.Cost(c.PerTeachingItem));
+            Check("cost.perTestItem", SettingRules.Cost(c.PerTestItem));
+            Check("cost.perMinute", SettingRules.Cost(c.PerMinute));
+            Check("cost.secondsPerItem", SettingRules.SecondsPerItem(c.SecondsPerItem));
+            Check("cost.falseRelease", SettingRules.Cost(c.FalseRelease));
+            Check("cost.failedQualified", SettingRules.Cost(c.FailedQualified));
+        }
+
         private void Gate(GateSettings? g)
         {
             if (g is null)
@@ -101,6 +136,9 @@ public static class ProjectValidator
             Check("gate.confidence", SettingRules.Confidence(g.Confidence));
             Check("gate.maxTeachingItems", SettingRules.MaxTeachingItems(g.MaxTeachingItems));
             Check("gate.retakes", SettingRules.Retakes(g.Retakes));
+            Check("gate.masteryStreak", SettingRules.MasteryStreak(g.MasteryStreak));
+            Check("gate.masteryExtension", SettingRules.MasteryExtension(g.MasteryExtension));
+            Check("gate.remediation", SettingRules.Remediation(g.Remediation));
 
             var t = g.Test;
             if (t is null)
@@ -113,6 +151,9 @@ public static class ProjectValidator
             Check("gate.test.delta", SettingRules.TestDelta(t.Delta, SettingRules.ValidTargetError(g.TargetError)));
             Check("gate.test.alpha", SettingRules.TestAlpha(t.Alpha));
             Check("gate.test.beta", SettingRules.TestBeta(t.Beta));
+            Check("gate.test.tailItems", SettingRules.TestTailItems(t.TailItems));
+            Check("gate.test.minItems", SettingRules.TestMinItems(t.MinItems));
+            Check("gate.test.maxExposure", SettingRules.TestMaxExposure(t.MaxExposure));
         }
 
         public void Items(ProjectSettings s, IReadOnlyList<ItemDefinition> items)
@@ -149,6 +190,8 @@ public static class ProjectValidator
                 ItemAttributes(i, path, item);
                 if (item.Content is not { } c || (IsBlank(c.Text) && IsBlank(c.ImageUrl) && IsBlank(c.Svg)))
                     Item(i, FieldPath.Member(path, "content"), "needs at least one of text, imageUrl or svg");
+                else if (!IsBlank(c.ImageUrl) && !IsWebAddress(c.ImageUrl!))
+                    Item(i, FieldPath.Member(FieldPath.Member(path, "content"), "imageUrl"), "must be an absolute http or https URL with a host and no user name or password");
             }
             if (teach == 0)
                 Whole("the teach pool is empty");
@@ -166,6 +209,12 @@ public static class ProjectValidator
                     break;
                 case FamilyKinds.Table:
                     Table(s.Family.Table, ids, labels);
+                    break;
+                case FamilyKinds.Text:
+                    Texts(items);
+                    break;
+                case FamilyKinds.Embedding:
+                    Vectors(items);
                     break;
             }
         }
@@ -227,6 +276,57 @@ public static class ProjectValidator
             }
         }
 
+        /// <summary>The text family embeds every item's text, so each needs one, short enough for the model.</summary>
+        private void Texts(IReadOnlyList<ItemDefinition> items)
+        {
+            for (var i = 0; i < items.Count; i++)
+            {
+                if (items[i] is not { } item)
+                    continue;
+                var field = FieldPath.Member(FieldPath.Member(FieldPath.Item(i), "content"), "text");
+                var text = item.Content?.Text;
+                if (IsBlank(text))
+                    Item(i, field, "the text family needs a text on every item, and this one is empty");
+                else if (text!.Length > Hypotheses.EmbeddingFeatures.MaxTextLength)
+                    Item(i, field, $"{text.Length} characters; the text family embeds texts of at most {Hypotheses.EmbeddingFeatures.MaxTextLength}");
+            }
+        }
+
+        /// <summary>The embedding family's rules are functions of one vector space: every item needs a vector of the same length, all finite.</summary>
+        private void Vectors(IReadOnlyList<ItemDefinition> items)
+        {
+            int? length = null;
+            var first = -1;
+            for (var i = 0; i < items.Count; i++)
+            {
+                if (items[i] is not { } item)
+                    continue;
+                var field = FieldPath.Member(FieldPath.Item(i), "embedding");
+                if (item.Embedding is not { } vector)
+                {
+                    Item(i, field, "the embedding family needs a vector on every item, and this one has none");
+                    continue;
+                }
+                if (vector.Length is 0 or > Hypotheses.EmbeddingFeatures.MaxVectorLength)
+                {
+                    Item(i, field, $"{vector.Length} numbers; a vector has 1 to {Hypotheses.EmbeddingFeatures.MaxVectorLength}");
+                    continue;
+                }
+                var bad = Array.FindIndex(vector, v => !float.IsFinite(v));
+                if (bad >= 0)
+                    Item(i, FieldPath.Index(field, bad), $"{vector[bad]} is not a finite number");
+                if (length is null)
+                {
+                    length = vector.Length;
+                    first = i;
+                }
+                else if (vector.Length != length)
+                {
+                    Item(i, field, $"{vector.Length} numbers; {FieldPath.Item(first)} has {length} (every vector needs the same length)");
+                }
+            }
+        }
+
         private void Table(IReadOnlyList<TableHypothesis>? table, Dictionary<string, int> ids, HashSet<string> labels)
         {
             if (table is not { Count: > 0 })
@@ -280,6 +380,17 @@ public static class ProjectValidator
         private void Whole(string message) => Problems.Add(new ProjectProblem(sources.ItemsFile, null, "items", message));
 
         private static bool IsBlank(string? value) => string.IsNullOrWhiteSpace(value);
+
+        /// <summary>
+        /// Image addresses go into the annotator's page: only absolute http(s) with a host, so no <c>javascript:</c>,
+        /// <c>data:</c> or protocol-relative address, and no credentials (OWASP XSS prevention cheat sheet, URL contexts).
+        /// </summary>
+        private static bool IsWebAddress(string value) =>
+            Uri.TryCreate(value, UriKind.Absolute, out var uri)
+            && (uri.Scheme == Uri.UriSchemeHttps || uri.Scheme == Uri.UriSchemeHttp)
+            && !string.IsNullOrEmpty(uri.Host)
+            && string.IsNullOrEmpty(uri.UserInfo)
+            && value.StartsWith(uri.Scheme + "://", StringComparison.OrdinalIgnoreCase);
 
         private static string Names(IReadOnlyList<string> names) => string.Join(", ", names);
     }

@@ -21,6 +21,16 @@ public enum LearnerVariant
     Stuck,
     /// <summary>Answers uniformly at random throughout.</summary>
     RandomAnswers,
+    /// <summary>Not from H: labels by summed similarity to every shown example (generalized context model).</summary>
+    Exemplar,
+    /// <summary>Not from H: labels by similarity to each class's mean of shown examples.</summary>
+    Prototype,
+    /// <summary>Not from H: switches among oblique linear rules of its own, with their own offsets.</summary>
+    ObliqueRules,
+    /// <summary>Not from H: holds an ordered decision list over the item's columns, relearnt from shown examples.</summary>
+    DecisionLists,
+    /// <summary>Not from H: a prototype learner that attends to a random subset of the features only.</summary>
+    PartialAttention,
 }
 
 /// <summary>
@@ -28,7 +38,7 @@ public enum LearnerVariant
 /// It holds one hypothesis; after feedback that shows it wrong it keeps it with probability q, otherwise redraws
 /// from its posterior P(·|A_t).
 /// </summary>
-public sealed class SimulatedLearner
+public sealed class SimulatedLearner : ISimulatedAnnotator
 {
     /// <summary>Share of the gap to the prior a <see cref="LearnerVariant.Forgetful"/> learner closes per step.</summary>
     public const double ForgetRate = 0.1;

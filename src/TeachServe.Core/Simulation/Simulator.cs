@@ -9,6 +9,10 @@ public sealed record SimulationOptions
     public int Learners { get; init; } = 200;
     public ulong Seed { get; init; } = 1;
     public LearnerVariant Variant { get; init; } = LearnerVariant.Assumed;
+    /// <summary>The items' features, aligned with the model version; needed by learner kinds unlike the model (<see cref="LearnerKinds.NeedsFeatures"/>).</summary>
+    public ItemFeatures? Features { get; init; }
+    /// <summary>The project's costs, for <see cref="SimulationResult.CostPerQualifiedRelease"/>.</summary>
+    public Projects.CostSettings Cost { get; init; } = new();
 }
 
 /// <summary>Mean of the learners' true error after a number of teaching items, with a 95 % normal interval.</summary>
@@ -33,6 +37,17 @@ public sealed record SimulationResult
     public required double MeanTeachingItemsToRelease { get; init; }
     public required double MeanFinalTrueError { get; init; }
     public required IReadOnlyList<CurvePoint> Curve { get; init; }
+    /// <summary>Released learners whose true error at the end is within target (DESIGN 1, "qualified release").</summary>
+    public int QualifiedReleases { get; init; }
+    /// <summary>Learners within target at the end who were not released.</summary>
+    public int FailedQualified { get; init; }
+    /// <summary>All items answered by all learners (teaching and test), over the qualified releases; NaN without one.</summary>
+    public double ItemsPerQualifiedRelease { get; init; }
+    /// <summary>
+    /// Total cost over qualified releases: items and minutes paid, plus the cost of each release above target and
+    /// of each learner within target who was not released (<see cref="Projects.CostSettings"/>); NaN without one.
+    /// </summary>
+    public double CostPerQualifiedRelease { get; init; }
 }
 
 /// <summary>Runs simulated annotators through a policy and the gate (DESIGN 1, "simulation").</summary>
@@ -40,9 +55,14 @@ public static class Simulator
 {
     public static SimulationResult Run(ModelVersion model, SimulationOptions options, IProgress<double>? progress = null, CancellationToken cancellationToken = default)
     {
+        if (LearnerKinds.NeedsFeatures(options.Variant) && options.Features is null)
+        {
+            throw new ArgumentException($"The learner kind {options.Variant} answers from item features; pass SimulationOptions.Features.", nameof(options));
+        }
+
         var gate = options.Session.Gate;
         var trajectories = new List<double>[options.Learners];
-        int released = 0, unqualified = 0, unqualifiedReleased = 0, preciseReleases = 0;
+        int released = 0, unqualified = 0, unqualifiedReleased = 0, preciseReleases = 0, failedQualified = 0;
         double teaching = 0, testing = 0, teachingReleased = 0, finalError = 0;
         var alpha = options.Session.Alpha ?? model.Learner.Alpha;
         var lapse = options.Session.Lapse ?? model.Learner.Lapse;
@@ -51,7 +71,7 @@ public static class Simulator
             cancellationToken.ThrowIfCancellationRequested();
 
             // The same learner i (same random stream) meets every policy, so comparisons share one population.
-            var learner = new SimulatedLearner(model, options.Variant, alpha, lapse, gate.TargetError, new SeededRandom(SeededRandom.Derive(options.Seed, (ulong)i)));
+            var learner = LearnerKinds.Create(model, options.Variant, options.Features, alpha, lapse, gate.TargetError, new SeededRandom(SeededRandom.Derive(options.Seed, (ulong)i)));
             var session = SessionRun.Start(model, options.Session with { Seed = SeededRandom.Derive(options.Seed ^ 0x5EED, (ulong)i) });
             var curve = new List<double> { learner.TrueError };
             while (!session.IsEnded)
@@ -81,6 +101,10 @@ public static class Simulator
                     preciseReleases++;
                 }
             }
+            else if (learner.TrueError <= gate.TargetError)
+            {
+                failedQualified++;
+            }
 
             if (isUnqualified)
             {
@@ -95,8 +119,15 @@ public static class Simulator
         }
 
         var n = Math.Max(1, options.Learners);
+        var cost = options.Cost;
+        var paid = (teaching * cost.PerTeachingItem) + (testing * cost.PerTestItem) + ((teaching + testing) * cost.SecondsPerItem / 60.0 * cost.PerMinute);
+        var mistakes = ((released - preciseReleases) * cost.FalseRelease) + (failedQualified * cost.FailedQualified);
         return new SimulationResult
         {
+            QualifiedReleases = preciseReleases,
+            FailedQualified = failedQualified,
+            ItemsPerQualifiedRelease = preciseReleases == 0 ? double.NaN : (teaching + testing) / preciseReleases,
+            CostPerQualifiedRelease = preciseReleases == 0 ? double.NaN : (paid + mistakes) / preciseReleases,
             Policy = options.Session.Policy,
             Variant = options.Variant,
             Learners = options.Learners,

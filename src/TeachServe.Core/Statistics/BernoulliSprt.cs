@@ -29,15 +29,7 @@ public sealed class BernoulliSprt
     /// <param name="beta">Wanted probability of accepting H0 when p = p1, in (0, 1); <c>alpha + beta &lt; 1</c>.</param>
     public BernoulliSprt(double p0, double p1, double alpha, double beta)
     {
-        Guard.OpenUnit(p0, nameof(p0));
-        Guard.OpenUnit(p1, nameof(p1));
-        if (!(p1 > p0))
-        {
-            throw new ArgumentOutOfRangeException(nameof(p1), p1, "Must exceed p0.");
-        }
-
-        Guard.OpenUnit(alpha, nameof(alpha));
-        Guard.OpenUnit(beta, nameof(beta));
+        Guard.TestRates(p0, p1, alpha, beta);
         if (!(alpha + beta < 1.0))
         {
             throw new ArgumentOutOfRangeException(nameof(beta), beta, "alpha + beta must be below 1, or the bounds cross.");

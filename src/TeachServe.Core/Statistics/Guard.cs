@@ -37,6 +37,20 @@ internal static class Guard
         }
     }
 
+    /// <summary>The settings of a test of H0: p ≤ p0 against H1: p ≥ p1 with error rates alpha and beta, each in (0, 1), p1 above p0.</summary>
+    public static void TestRates(double p0, double p1, double alpha, double beta)
+    {
+        OpenUnit(p0, nameof(p0));
+        OpenUnit(p1, nameof(p1));
+        if (!(p1 > p0))
+        {
+            throw new ArgumentOutOfRangeException(nameof(p1), p1, "Must exceed p0.");
+        }
+
+        OpenUnit(alpha, nameof(alpha));
+        OpenUnit(beta, nameof(beta));
+    }
+
     public static void NonNegative(int value, string name)
     {
         if (value < 0)

@@ -24,6 +24,14 @@ public sealed record SessionOptions
     /// <summary>Seeds the random policy and the test-item order; the server derives it from the session id.</summary>
     public ulong Seed { get; init; }
 
+    /// <summary>
+    /// Exposure control (Sympson &amp; Hetter 1985, see <see cref="ExposureControl"/>): per test item (index = item −
+    /// <see cref="Model.ModelVersion.TeachCount"/>), the probability K that the item is given when the test draws it;
+    /// otherwise the session passes it over. Fixed when the session starts and stored with it, so a replay passes the
+    /// same values. Null (or every K = 1) draws exactly as without exposure control.
+    /// </summary>
+    public IReadOnlyList<double>? TestAdministration { get; init; }
+
     public static SessionOptions FromProject(ProjectSettings settings, ulong seed) => new()
     {
         Policy = settings.Policy,

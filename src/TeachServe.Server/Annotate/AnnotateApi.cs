@@ -2,6 +2,7 @@ using Microsoft.AspNetCore.Http.HttpResults;
 using Microsoft.EntityFrameworkCore;
 using Microsoft.Extensions.Options;
 using TeachServe.Server.Auth;
+using TeachServe.Server.Contract;
 using TeachServe.Server.Infrastructure;
 using TeachServe.Server.Persistence;
 using TeachServe.Server.Projects;
@@ -16,9 +17,10 @@ public static class AnnotateApi
     public static RouteGroupBuilder MapAnnotateApi(this IEndpointRouteBuilder api)
     {
         var group = api.MapGroup("/").WithTags("Annotator page");
-        group.MapPost("/launch", Exchange)
+        group.MapPost("/launch", Exchange).RequireRateLimiting(RateLimiting.CredentialPolicy).WithName("exchangeLaunchCode")
+            .Problem(StatusCodes.Status410Gone, "The launch code was used already, has expired, or is incomplete.")
             .WithSummary("Trade the one-time code of a launch link for the session token (once; the code then stops working).");
-        group.MapGet("/sessions/{sessionId}/page", GetPageState).RequireKey(KeyRole.Session)
+        group.MapGet("/sessions/{sessionId}/page", GetPageState).RequireKey(KeyRole.Session).WithName("getPageState")
             .WithSummary("The annotator page's view of the current step: progress, the item (SVG sanitised), or how the session ended.");
         return group;
     }
@@ -32,10 +34,10 @@ public static class AnnotateApi
     }
 
     public static async Task<Results<Ok<AnnotatorPageState>, ProblemHttpResult>> GetPageState(
-        string sessionId, TeachServeDb db, SessionEngine engine, SessionStateCache states, AuthenticatedSession authenticated,
-        ModelVersionCache versions, IOptions<AnnotateOptions> options, CancellationToken ct)
+        string sessionId, HttpRequest http, TeachServeDb db, SessionEngine engine, SessionStateCache states, AuthenticatedSession authenticated,
+        ModelVersionCache versions, IOptions<AnnotateOptions> options, IOptions<TeachServeOptions> server, CancellationToken ct)
     {
-        var next = await SessionsApi.GetNext(sessionId, db, engine, states, authenticated, ct);
+        var next = await SessionsApi.GetNext(sessionId, http, db, engine, states, authenticated, server, ct);
         if (next.Result is not Ok<NextItem> { Value: { } current }) return (ProblemHttpResult)next.Result;
         var session = await db.Sessions.AsNoTracking().FirstAsync(s => s.Id == sessionId, ct);
         var version = await versions.GetAsync(session.ProjectId, session.ModelVersion, ct);
@@ -44,6 +46,16 @@ public static class AnnotateApi
         // The ending's wording comes from the project as it is now, so an owner's edit reaches running sessions.
         var project = await db.Projects.AsNoTracking().FirstAsync(p => p.Id == session.ProjectId, ct);
         var completion = ProjectsApi.Settings(project).Completion;
+
+        // Which check this is and how far into it, so the page can announce every check and number its items from 1.
+        // Not secret: the annotator has seen both; the counts of wrong answers stay on the owner's side.
+        int attempt = 1, attemptAnswered = 0;
+        if (current.Phase == Phases.Testing)
+        {
+            if (!states.TryGet(sessionId, current.Step, out var run)) (_, run) = await engine.LoadAsync(db, session, ct);
+            attempt = run.RetakesUsed + 1;
+            attemptAnswered = run.AttemptTestAnswered;
+        }
 
         PageItem? item = null;
         if (current.Item is { } shown)
@@ -60,6 +72,8 @@ public static class AnnotateApi
             Step = current.Step,
             ItemsTaught = view.ItemsTaught,
             TestAnswered = view.TestAnswered,
+            Attempt = attempt,
+            AttemptAnswered = attemptAnswered,
             PredictedError = view.PredictedError,
             StartingError = version.Model.Summary.PriorExpectedError,
             TargetError = gate.TargetError,

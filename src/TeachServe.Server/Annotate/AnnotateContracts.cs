@@ -22,6 +22,10 @@ public sealed record AnnotatorPageState
     public required int Step { get; init; }
     public required int ItemsTaught { get; init; }
     public required int TestAnswered { get; init; }
+    /// <summary>Which check this is (1 for the first, 2 after one retake); 1 outside the testing phase.</summary>
+    public int Attempt { get; init; } = 1;
+    /// <summary>Items answered in the current check (0 outside the testing phase).</summary>
+    public int AttemptAnswered { get; init; }
     /// <summary>Absent while testing (its movement would hint at the test answers).</summary>
     public double? PredictedError { get; init; }
     /// <summary>The predicted error before the first teaching item: where the progress bar starts.</summary>

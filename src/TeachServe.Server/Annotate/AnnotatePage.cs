@@ -26,5 +26,5 @@ public static class AnnotatePage
     }
 
     public static string FrameAncestors(AnnotateOptions o) =>
-        string.Join(' ', new[] { "'self'" }.Concat(o.FrameAncestors));
+        string.Join(' ', o.FrameAncestors.Prepend("'self'"));
 }

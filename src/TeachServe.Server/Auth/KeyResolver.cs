@@ -16,7 +16,10 @@ public sealed class KeyResolver(
 
     public async Task<KeyCheck> CheckAsync(string key, CancellationToken ct)
     {
-        if (!ApiKeys.TryParse(key, out var prefix, out var id)) return KeyCheck.Invalid;
+        // A configured admin key may have any form (TeachServeOptionsValidator.AdminKeyFormIsValid), so a key that is
+        // not shaped like a generated one is compared with the admin key's hash before it is refused.
+        if (!ApiKeys.TryParse(key, out var prefix, out var id))
+            return admin.Matches(key) ? KeyCheck.Ok(Principal(KeyRole.Admin, null, null, "admin")) : KeyCheck.Invalid;
         switch (prefix)
         {
             case ApiKeys.AdminPrefix:

@@ -101,6 +101,8 @@ public sealed class ConsoleKeyRing(IDataProtectionProvider protection) : IStartu
     public Task RunAsync(TeachServeDb db, StartupBanner banner, CancellationToken ct)
     {
         protection.CreateProtector("TeachServe.Startup").Protect([1]);
+        // Said here instead of data protection's own "No XML encryptor configured" warning (filtered in Program.cs).
+        banner.Add("Console keys", "stored in the database, not encrypted at rest (SECURITY.md, \"Owner console\")");
         return Task.CompletedTask;
     }
 }

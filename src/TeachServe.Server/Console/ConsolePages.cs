@@ -8,6 +8,7 @@ using Microsoft.EntityFrameworkCore;
 using Microsoft.Extensions.Options;
 using TeachServe.Core.Model;
 using TeachServe.Core.Projects;
+using TeachServe.Plots;
 using TeachServe.Server.Events;
 using TeachServe.Server.Infrastructure;
 using TeachServe.Server.Items;
@@ -31,20 +32,22 @@ public static class ConsolePages
     {
         var console = app.MapGroup(ConsoleAuth.Path).ExcludeFromDescription();
         console.MapGet("/", Onboarding);
-        console.MapPost("/sign-in", SignIn);
+        console.MapPost("/sign-in", SignIn).RequireRateLimiting(RateLimiting.CredentialPolicy);
         console.MapPost("/sign-out", SignOut);
         console.MapGet("/project", ProjectPage);
         console.MapPost("/items", Upload);
         console.MapPost("/versions", Compile);
         console.MapPost("/settings", SaveSettings);
+        console.MapPost("/keys", ChangeKey);
         console.MapGet("/events.jsonl", ExportEvents);
+        console.MapGet("/sessions.csv", ExportSessions);
         console.MapGet("/plots/{name}", Plot);
         return console;
     }
 
     // ---------- sign-in ----------
 
-    private static IResult SignInPage(HttpContext http, IAntiforgery forms, string? error, int status)
+    private static IResult SignInPage(HttpContext http, IAntiforgery forms, string? error, int status, string? notice = null)
     {
         var token = forms.GetAndStoreTokens(http).RequestToken!;
         var body = $"""
@@ -52,6 +55,7 @@ public static class ConsolePages
               <h1 id="sign-in-heading">Sign in to your project</h1>
               <p>Paste the project's <strong>owner key</strong> (it starts with <code>tso.</code>). It was shown once when the
                  project was created; the server keeps only its hash.</p>
+              {(notice is null ? "" : $"<div id=\"sign-in-notice\">{Message("ok", notice)}</div>")}
               {(error is null ? "" : $"<div id=\"sign-in-error\">{Message("error", error)}</div>")}
               <form method="post" action="/console/sign-in">
                 {Token(token)}
@@ -88,7 +92,9 @@ public static class ConsolePages
         var project = await ConsoleAuth.CurrentAsync(http, db, ct);
         if (project is null) return SignInPage(http, forms, null, StatusCodes.Status200OK);
         var token = forms.GetAndStoreTokens(http).RequestToken!;
-        var stats = await ConsoleStats.ComputeAsync(db, project.Id, ct);
+        // ?page=N pages the session table (a missing or unreadable number is the first page, one too high the last).
+        var page = int.TryParse(http.Request.Query["page"], NumberStyles.Integer, CultureInfo.InvariantCulture, out var p) ? p : 1;
+        var stats = await ConsoleStats.ComputeAsync(db, project.Id, ct, page);
         var settings = ProjectsApi.Settings(project);
         var phases = string.Concat(Phases.All.Select(p =>
             $"""<li><span class="phase {p}">{p}</span> <strong>{stats.ByPhase.GetValueOrDefault(p)}</strong></li>"""));
@@ -180,9 +186,21 @@ public static class ConsolePages
                 </tr>
                 """;
         }));
+        var first = (stats.Page - 1) * ConsoleStats.RecentRows + 1;
+        var last = first + stats.Recent.Count - 1;
+        var pages = (stats.TotalSessions + ConsoleStats.RecentRows - 1) / ConsoleStats.RecentRows;
+        var pager = $"""
+            <nav class="pager" aria-label="Session pages">
+              <span>Sessions {first}–{last} of {stats.TotalSessions}, newest first.</span>
+              {(stats.Page > 1 ? $"<a href=\"/console?page={stats.Page - 1}\" rel=\"prev\">Newer</a>" : "")}
+              {(stats.Page < pages ? $"<a href=\"/console?page={stats.Page + 1}\" rel=\"next\">Older</a>" : "")}
+              <a href="/console/sessions.csv" download>All as CSV</a>
+            </nav>
+            """;
         return $"""
             <section aria-labelledby="recent-heading">
               <h2 id="recent-heading">Recent sessions</h2>
+              {pager}
               <div class="table-wrap" tabindex="0" role="region" aria-labelledby="recent-heading">
               <table class="sessions">
                 <thead><tr>
@@ -201,22 +219,21 @@ public static class ConsolePages
     {
         var project = await ConsoleAuth.CurrentAsync(http, db, ct);
         if (project is null) return Results.Unauthorized();
+        if (!ConsolePlots.Names.Contains(name)) return Infrastructure.Problems.NotFound($"No such plot; expected one of {string.Join(", ", ConsolePlots.Names)}.");
         var stats = await ConsoleStats.ComputeAsync(db, project.Id, ct);
         var settings = ProjectsApi.Settings(project);
-        var svg = name switch
+        var plot = name switch
         {
             "calibration.svg" => ConsolePlots.Calibration(stats.Calibration, settings.Gate.TargetError),
             "learning-curve.svg" => ConsolePlots.LearningCurve(stats.LearningCurve,
                 await StartingErrorAsync(db, project.Id, ct) ?? (stats.LearningCurve.Count > 0 ? stats.LearningCurve[0].MeanPredictedError : 1),
                 settings.Gate.TargetError),
-            "items-to-release.svg" => ConsolePlots.ItemsToRelease(stats.ItemsToRelease),
-            _ => null,
+            _ => ConsolePlots.ItemsToRelease(stats.ItemsToRelease),
         };
-        if (svg is null) return Results.NotFound();
         http.Response.Headers.CacheControl = "no-store";
         http.Response.Headers.ContentSecurityPolicy = "default-src 'none'; style-src 'unsafe-inline'";
         http.Response.Headers.XContentTypeOptions = "nosniff";
-        return Results.Text(svg, "image/svg+xml; charset=utf-8");
+        return Results.Text(PlotOutput.Svg(plot, PlotSize.Console), "image/svg+xml; charset=utf-8");
     }
 
     private static async Task<double?> StartingErrorAsync(TeachServeDb db, string projectId, CancellationToken ct)
@@ -271,6 +288,7 @@ public static class ConsolePages
               </table>
               <h3>Event log</h3>
               <p><a href="/console/events.jsonl" download>Download every event as JSON Lines</a> (session starts, answers, releases; for your own analysis).</p>
+              <p><a href="/console/sessions.csv" download>Download every session as CSV</a> (one row per annotator: phase, items, test totals, times).</p>
             </section>
             <section class="panel" aria-labelledby="upload-heading">
               <h2 id="upload-heading">Upload items</h2>
@@ -298,14 +316,67 @@ public static class ConsolePages
                 <table class="versions">
                   <thead><tr><th scope="col">Version</th><th scope="col">Status</th><th scope="col">Items (teach / test)</th>
                   <th scope="col">|H| (distinct of generated)</th><th scope="col">Error histogram of H</th><th scope="col">Teaching dimension (est.)</th>
-                  <th scope="col">Prior predicted error</th></tr></thead>
+                  <th scope="col">Prior predicted error</th><th scope="col">Test (exact rates)</th></tr></thead>
                   <tbody>{versionRows}</tbody>
                 </table></div>
                 """)}
             </section>
             {SettingsForm(settings, token, ProblemsFor("settings"), typed)}
+            {KeysPanel(token, ProblemsFor("keys"))}
             """;
         return Html(http, Layout("Project", project.Name, "project", token, body), status);
+    }
+
+    private static string KeysPanel(string token, string problems) => $"""
+        <section class="panel" aria-labelledby="keys-heading">
+          <h2 id="keys-heading">Keys</h2>
+          <p class="note">Replacing a key stops the old one at once, on every node, and shows the new one here once. Sessions
+             already running keep their own tokens. Every change is recorded in the project's audit log.</p>
+          {problems}
+          <form method="post" action="/console/keys" class="keys">
+            {Token(token)}
+            <input type="hidden" name="kind" value="{ProjectKeysApi.EmbedKind}">
+            <p><strong>Embed key</strong> (your platform's backend starts sessions with it)</p>
+            <button type="submit" name="action" value="rotate">Replace the embed key</button>
+            <button type="submit" name="action" value="revoke" class="danger">Revoke the embed key</button>
+          </form>
+          <form method="post" action="/console/keys" class="keys">
+            {Token(token)}
+            <input type="hidden" name="kind" value="{ProjectKeysApi.OwnerKind}">
+            <p><strong>Owner key</strong> (this console and the owner's API calls)</p>
+            <button type="submit" name="action" value="rotate">Replace the owner key and sign in with the new one</button>
+          </form>
+        </section>
+        """;
+
+    public static async Task<IResult> ChangeKey(HttpContext http, IFormCollection form, TeachServeDb db, IAntiforgery forms, TimeProvider time, CancellationToken ct)
+    {
+        var project = await ConsoleAuth.CurrentAsync(http, db, ct);
+        if (project is null) return SignInPage(http, forms, "Your console session has ended; sign in again.", StatusCodes.Status401Unauthorized);
+        var kind = form["kind"].ToString();
+        var action = form["action"].ToString();
+        if (kind is not (ProjectKeysApi.OwnerKind or ProjectKeysApi.EmbedKind) || action is not ("rotate" or "revoke")
+            || (kind == ProjectKeysApi.OwnerKind && action == "revoke"))
+        {
+            return await RenderProjectAsync(http, db, forms, project, null,
+                ("keys", "Not changed.", [(null, "kind", "choose the embed key (replace or revoke) or the owner key (replace)")]), StatusCodes.Status400BadRequest, ct);
+        }
+
+        if (action == "revoke")
+        {
+            await ProjectKeysApi.RevokeAsync(db, time, project.Id, kind, "console", ct);
+            return await RenderProjectAsync(http, db, forms, project,
+                "The embed key is revoked: your platform cannot start sessions until you replace it.", null, StatusCodes.Status200OK, ct);
+        }
+        var rotated = (await ProjectKeysApi.RotateAsync(db, time, project.Id, kind, "console", ct))!;
+        if (kind == ProjectKeysApi.EmbedKind)
+        {
+            return await RenderProjectAsync(http, db, forms, project,
+                $"New embed key (shown once; give it to your platform's backend): {rotated.Key}", null, StatusCodes.Status200OK, ct);
+        }
+        // The console cookie names the old owner key's fingerprint, so this console session has ended too.
+        return SignInPage(http, forms, null, StatusCodes.Status200OK,
+            notice: $"New owner key (shown once; keep it safe, the server stores only its hash): {rotated.Key}");
     }
 
     private static string VersionRow(ModelVersionRecord v)
@@ -313,13 +384,33 @@ public static class ConsolePages
         var summary = v.SummaryJson is null ? null : Json.Deserialize<ModelSummary>(v.SummaryJson);
         var status = v.Status == VersionStatuses.Failed ? $"failed <small>{E(v.Error)}</small>" : E(v.Status);
         if (summary is null)
-            return $"<tr><th scope=\"row\">{v.Number}</th><td>{status}</td><td class=\"num\">{v.TeachCount} / {v.TestCount}</td><td colspan=\"4\">–</td></tr>";
+            return $"<tr><th scope=\"row\">{v.Number}</th><td>{status}</td><td class=\"num\">{v.TeachCount} / {v.TestCount}</td><td colspan=\"5\">–</td></tr>";
         return $"""
             <tr><th scope="row">{v.Number}</th><td>{status}</td><td class="num">{v.TeachCount} / {v.TestCount}</td>
-            <td class="num">{summary.Hypotheses} <small>of {summary.HypothesesGenerated}</small></td>
+            <td class="num">{summary.Hypotheses} <small>of {summary.HypothesesGenerated}</small><br><small>{N(summary.MemoryBytes / 1048576.0, "0.0")} MiB in memory</small>{VectorsNote(summary.Vectors)}</td>
             <td>{Histogram(summary)}</td>
             <td class="num">{summary.TeachingDimensionEstimate}</td>
-            <td class="num">{Pct(summary.PriorExpectedError)}</td></tr>
+            <td class="num">{Pct(summary.PriorExpectedError)}</td>
+            <td>{GateCell(summary.Gate)}</td></tr>
+            """;
+    }
+
+    /// <summary>For text and embedding versions: where the vectors came from and how far they were reduced.</summary>
+    private static string VectorsNote(VectorSummary? v) => v is null ? "" :
+        $"<br><small>{E(v.Model ?? "platform vectors")}: {v.Length} → {v.Dimensions} components ({Pct(v.ExplainedVariance)} of the variance)</small>";
+
+    /// <summary>The version's test: its length, exact release chances at the target and at the limit, and its warnings.</summary>
+    private static string GateCell(GateSummary? g)
+    {
+        if (g is null) return "–";
+        var points = g.OperatingCharacteristic;
+        var rows = string.Concat(points.Select(p => $"<tr><td class=\"num\">{Pct(p.RuleError)}</td><td class=\"num\">{Pct(p.Release)}</td><td class=\"num\">{N(p.Items, "0.#")}</td></tr>"));
+        var warnings = string.Concat(g.Warnings.Select(w => $"<p class=\"warn\"><small>{E(w)}</small></p>"));
+        return $"""
+            {E(g.Mode)}, ≤ {g.MaxItems} items × {g.Attempts}<br><small>fails at target {Pct(g.AttemptAlpha)} per attempt; releases at limit {Pct(g.AttemptBeta)} per attempt</small>
+            <details><summary>Release chance by rule error</summary>
+            <table class="oc"><thead><tr><th scope="col">Rule error</th><th scope="col">Released (all attempts)</th><th scope="col">Test items (expected)</th></tr></thead><tbody>{rows}</tbody></table></details>
+            {warnings}
             """;
     }
 
@@ -369,17 +460,19 @@ public static class ConsolePages
               <form method="post" action="/console/settings" class="settings" novalidate>
                 {Token(token)}
                 <fieldset><legend>Teaching</legend>
-                {Field("targetError", "Target error", N(g.TargetError), "Release needs predicted and tested error at or below this (0–1).", extra: "step=\"any\" min=\"0\" max=\"1\"")}
+                {Field("targetError", "Target error", N(g.TargetError), "The rule error annotators must meet (0–1). Teaching aims below it; the test fails an annotator exactly at it with probability ≤ α per attempt.", extra: "step=\"any\" min=\"0\" max=\"1\"")}
                 {Field("confidence", "Confidence", N(g.Confidence), "Belief mass on rules within the target before teaching ends (0–1).", extra: "step=\"any\" min=\"0\" max=\"1\"")}
                 {Field("maxTeachingItems", "Teaching budget", g.MaxTeachingItems.ToString(CultureInfo.InvariantCulture), "Most teaching items before the test starts anyway.", extra: "step=\"1\" min=\"1\"")}
                 {Select("policy", "Policy", s.Policy, PolicyNames.All, "How the next teaching item is chosen.")}
                 </fieldset>
                 <fieldset><legend>Test</legend>
-                {Select("testMode", "Test rule", g.Test.Mode, [TestModes.Sequential, TestModes.Fixed], "sequential: stops as soon as the result is clear; fixed: always the full length.")}
+                {Select("testMode", "Test rule", g.Test.Mode, [TestModes.Sequential, TestModes.Fixed, TestModes.Belief], "sequential: stops as soon as the result is clear; fixed: always the full length; belief: may also release early on the belief, the sequential test guarding (fewer items, slightly more false releases in simulation).")}
                 {Field("testMaxItems", "Test length (most items)", g.Test.MaxItems.ToString(CultureInfo.InvariantCulture), "Held-out items, without feedback.", extra: "step=\"1\" min=\"1\"")}
                 {Field("testDelta", "Indifference width", N(g.Test.Delta), "The test separates error ≤ target from error ≥ target + this.", extra: "step=\"any\" min=\"0\" max=\"1\"")}
-                {Field("testAlpha", "Test α", N(g.Test.Alpha), "Chance of failing an annotator who meets the target.", extra: "step=\"any\" min=\"0\" max=\"1\"")}
-                {Field("testBeta", "Test β", N(g.Test.Beta), "Chance of releasing an annotator at target + width.", extra: "step=\"any\" min=\"0\" max=\"1\"")}
+                {Field("testAlpha", "Test α", N(g.Test.Alpha), "Largest chance, per attempt, of failing an annotator exactly at the target (exact, lapses counted).", extra: "step=\"any\" min=\"0\" max=\"1\"")}
+                {Field("testBeta", "Test β", N(g.Test.Beta), "Largest chance, over all attempts, of releasing an annotator at target + width. Settings no test of the length can keep are refused with the length needed.", extra: "step=\"any\" min=\"0\" max=\"1\"")}
+                {Field("testTailItems", "Unscored items after the decision", g.Test.TailItems.ToString(CultureInfo.InvariantCulture), "0 to this many items follow a sequential decision, recorded but not counted, so annotators cannot tell which answer decided.", extra: "step=\"1\" min=\"0\" max=\"20\"")}
+                {Field("testMinItems", "Belief rule: fewest test items", g.Test.MinItems.ToString(CultureInfo.InvariantCulture), "With the belief rule, test answers needed before the belief may release.", extra: "step=\"1\" min=\"1\"")}
                 {Field("retakes", "Retakes", g.Retakes.ToString(CultureInfo.InvariantCulture), "Failed tests that send the annotator back to teaching.", extra: "step=\"1\" min=\"0\"")}
                 <div class="field check">
                   <input id="f-requireBeliefAfterTest" name="requireBeliefAfterTest" type="checkbox" value="true"{(g.RequireBeliefAfterTest ? " checked" : "")}>
@@ -431,14 +524,16 @@ public static class ConsolePages
         {
             return await RenderProjectAsync(http, db, forms, project, null, ("items", "The file is not UTF-8 text.", Single("file", "save it as UTF-8 and upload again")), 422, ct);
         }
-        var parsed = ItemParsing.Read(format.Value, text, ProjectsApi.Settings(project), limits.MaxItemsPerUpload);
+        var settings = ProjectsApi.Settings(project);
+        var parsed = ItemParsing.Read(format.Value, text, settings, limits.MaxItemsPerUpload);
         if (parsed.Problems.Count > 0)
         {
             var list = parsed.Problems.Select(p => (p.Line, p.Field, p.Reason)).ToList();
             return await RenderProjectAsync(http, db, forms, project, null,
                 ("items", $"{file.FileName}: {list.Count} problem(s); nothing was stored.", list), 422, ct);
         }
-        var stored = await ItemsApi.StoreAsync(db, project.Id, parsed.Items, limits, time, ct);
+        var embeddings = http.RequestServices.GetRequiredService<TextEmbeddings>();
+        var stored = await ItemsApi.StoreAsync(db, project.Id, settings, parsed.Items, limits, time, embeddings, ct);
         if (stored.Result is Ok<ItemUploadResult> { Value: { } r })
             return await RenderProjectAsync(http, db, forms, project,
                 $"{file.FileName}: {r.Received} items read, {r.Created} new, {r.Updated} changed, {r.Unchanged} unchanged. Compile a new model version to teach with them.",
@@ -449,18 +544,20 @@ public static class ConsolePages
 
     public static async Task<IResult> Compile(
         HttpContext http, IFormCollection form, TeachServeDb db, IAntiforgery forms, TimeProvider time, IOptions<TeachServeOptions> options,
-        ModelVersionCache cache, VersionCompileQueue queue, ILogger<VersionCompileQueue> logger, CancellationToken ct)
+        ModelVersionCache cache, VersionCompileQueue queue, CompileSlots slots, ILogger<VersionCompileQueue> logger, CancellationToken ct)
     {
         var project = await ConsoleAuth.CurrentAsync(http, db, ct);
         if (project is null) return SignInPage(http, forms, "Your console session has ended; sign in again.", StatusCodes.Status401Unauthorized);
         try
         {
-            var result = await VersionsApi.CreateVersion(project.Id, db, time, options, cache, queue, logger, ct);
+            var result = await VersionsApi.CreateVersion(project.Id, db, time, options, cache, queue, slots, logger,
+                http.RequestServices.GetRequiredService<TextEmbeddings>(), http.Response, ct);
             var (message, status) = result.Result switch
             {
                 Created<VersionView> { Value: { } v } => ($"Model version {v.Version} is ready; new sessions use it.", StatusCodes.Status200OK),
                 Accepted<VersionView> { Value: { } v } => ($"Model version {v.Version} is compiling in the background; reload this page to see it ready.", StatusCodes.Status200OK),
-                ProblemHttpResult p => (p.ProblemDetails.Detail ?? "Compiling failed.", StatusCodes.Status422UnprocessableEntity),
+                Ok<VersionView> { Value: { } v } => ($"Model version {v.Version} already holds these settings and items; nothing new was compiled.", StatusCodes.Status200OK),
+                ProblemHttpResult p => (p.ProblemDetails.Detail ?? "Compiling failed.", p.StatusCode),
                 _ => ("Compiling finished.", StatusCodes.Status200OK),
             };
             return await RenderProjectAsync(http, db, forms, project, message, null, status, ct);
@@ -472,7 +569,7 @@ public static class ConsolePages
     }
 
     public static async Task<IResult> SaveSettings(
-        HttpContext http, IFormCollection form, TeachServeDb db, IAntiforgery forms, TimeProvider time, CancellationToken ct)
+        HttpContext http, IFormCollection form, TeachServeDb db, IAntiforgery forms, TimeProvider time, Webhooks.WebhookSecrets secrets, CancellationToken ct)
     {
         var project = await ConsoleAuth.CurrentAsync(http, db, ct);
         if (project is null) return SignInPage(http, forms, "Your console session has ended; sign in again.", StatusCodes.Status401Unauthorized);
@@ -505,6 +602,8 @@ public static class ConsolePages
                     ["delta"] = Number("testDelta", "gate.test.delta", false),
                     ["alpha"] = Number("testAlpha", "gate.test.alpha", false),
                     ["beta"] = Number("testBeta", "gate.test.beta", false),
+                    ["tailItems"] = Number("testTailItems", "gate.test.tailItems", true),
+                    ["minItems"] = Number("testMinItems", "gate.test.minItems", true),
                 },
             },
             ["completion"] = new JsonObject
@@ -519,7 +618,7 @@ public static class ConsolePages
             return await RenderProjectAsync(http, db, forms, project, null, ("settings", "The settings were not saved.", problems), 422, ct, form);
         try
         {
-            var result = await ProjectsApi.PatchProject(project.Id, patch, db, time, ct);
+            var result = await ProjectsApi.PatchProject(project.Id, patch, db, time, secrets, ct);
             if (result.Result is ProblemHttpResult p)
                 return await RenderProjectAsync(http, db, forms, project, null, ("settings", p.ProblemDetails.Detail ?? "Not saved.", []), 422, ct, form);
         }
@@ -542,6 +641,14 @@ public static class ConsolePages
         if (project is null) return Results.Redirect("/console");
         http.Response.Headers.ContentDisposition = $"attachment; filename=\"{project.Id}-events.jsonl\"";
         return (await EventsApi.ExportEvents(project.Id, null, db, ct)).Result;
+    }
+
+    public static async Task<IResult> ExportSessions(HttpContext http, TeachServeDb db, CancellationToken ct)
+    {
+        var project = await ConsoleAuth.CurrentAsync(http, db, ct);
+        if (project is null) return Results.Redirect("/console");
+        http.Response.Headers.ContentDisposition = $"attachment; filename=\"{project.Id}-sessions.csv\"";
+        return Results.Text(await SessionsCsv.WriteAsync(db, project.Id, ct), "text/csv; charset=utf-8");
     }
 
     private static IResult Html(HttpContext http, string html, int status)

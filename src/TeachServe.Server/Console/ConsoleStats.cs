@@ -29,7 +29,9 @@ public sealed record OnboardingStats(
     IReadOnlyList<CalibrationPoint> Calibration,
     IReadOnlyList<CurvePoint> LearningCurve,
     IReadOnlyList<SessionRow> Recent,
-    int SessionsInPictures);
+    int SessionsInPictures,
+    int Page = 1,
+    int TotalSessions = 0);
 
 /// <summary>
 /// The live onboarding figures of one project. Counts cover every session; medians cover the most recent
@@ -42,7 +44,8 @@ public static class ConsoleStats
     public const int MaxForPictures = 300;
     public const int RecentRows = 25;
 
-    public static async Task<OnboardingStats> ComputeAsync(TeachServeDb db, string projectId, CancellationToken ct)
+    /// <param name="page">Which page of the session table, newest first, <see cref="RecentRows"/> rows each (from 1).</param>
+    public static async Task<OnboardingStats> ComputeAsync(TeachServeDb db, string projectId, CancellationToken ct, int page = 1)
     {
         var sessions = db.Sessions.AsNoTracking().Where(s => s.ProjectId == projectId);
         var byPhase = (await sessions.GroupBy(s => s.Phase).Select(g => new { g.Key, Count = g.Count() }).ToListAsync(ct))
@@ -57,9 +60,13 @@ public static class ConsoleStats
         var minutes = releasedRows.Where(r => r.EndedAt is not null)
             .Select(r => (r.EndedAt!.Value - r.CreatedAt).TotalMinutes).Order().ToList();
 
-        var recent = await sessions.OrderByDescending(s => s.CreatedAt).Take(MaxForPictures).ToListAsync(ct);
+        var recent = await sessions.OrderByDescending(s => s.CreatedAt).ThenByDescending(s => s.Id).Take(MaxForPictures).ToListAsync(ct);
         var (calibration, curve) = await PicturesAsync(db, recent, ct);
-        var rows = recent.Take(RecentRows)
+        var total = byPhase.Values.Sum();
+        page = Math.Clamp(page, 1, Math.Max(1, (total + RecentRows - 1) / RecentRows));
+        var pageRows = page == 1 ? recent.Take(RecentRows).ToList()
+            : await sessions.OrderByDescending(s => s.CreatedAt).ThenByDescending(s => s.Id).Skip((page - 1) * RecentRows).Take(RecentRows).ToListAsync(ct);
+        var rows = pageRows
             .Select(s => new SessionRow(SessionsApi.View(s, forAnnotator: false), s.EndedAt is { } end ? end - s.CreatedAt : null))
             .ToList();
 
@@ -71,7 +78,7 @@ public static class ConsoleStats
             interval,
             items.Count > 0 ? Median(items.Select(i => (double)i).ToList()) : null,
             minutes.Count > 0 ? TimeSpan.FromMinutes(Median(minutes)) : null,
-            items, calibration, curve, rows, recent.Count);
+            items, calibration, curve, rows, recent.Count, page, total);
     }
 
     /// <summary>Median of a sorted list; the mean of the middle two for an even count.</summary>

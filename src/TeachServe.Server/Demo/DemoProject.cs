@@ -16,7 +16,8 @@ namespace TeachServe.Server.Demo;
 /// </summary>
 public sealed partial class DemoProject(
     IOptions<TeachServeOptions> options, IConfiguration configuration, TimeProvider time,
-    ModelVersionCache versions, SessionStateCache states, AnswerCommitLoop writer, ILogger<DemoProject> logger) : IStartupStep
+    ModelVersionCache versions, SessionStateCache states, AnswerCommitLoop writer, Webhooks.WebhookSecrets secrets,
+    ILogger<DemoProject> logger) : IStartupStep
 {
     public const string Setting = "demo-project";
     public const string FolderName = "weld-seams";
@@ -26,7 +27,7 @@ public sealed partial class DemoProject(
     {
         var o = options.Value;
         var baseUrl = BaseUrl(o);
-        banner.Add("API reference", $"{baseUrl}/scalar/v1  (OpenAPI: {baseUrl}/openapi/v1.json)");
+        banner.Add("API reference", $"{baseUrl}/reference  (OpenAPI: {baseUrl}/openapi/v1.json)");
         if (!o.LoadDemo) return;
         if (await db.ServerSettings.FirstOrDefaultAsync(s => s.Key == Setting, ct) is { } existing)
         {
@@ -46,7 +47,7 @@ public sealed partial class DemoProject(
             return;
         }
 
-        var (project, keys) = await ProjectsApi.CreateAsync(db, time, new ProjectDocument(definition.Settings, null), ct);
+        var (project, keys) = await ProjectsApi.CreateAsync(db, time, secrets, new ProjectDocument(definition.Settings, null), ct);
         var now = time.GetUtcNow();
         db.Items.AddRange(definition.Items.Select(i => new Item
         {
@@ -70,8 +71,9 @@ public sealed partial class DemoProject(
         banner.Add("Owner key", $"{keys.OwnerKey}   (shown once)");
         banner.Add("Embed key", $"{keys.EmbedKey}   (shown once)");
         banner.Add("Demo session", session.SessionId);
-        banner.Add("Session token", session.Token);
-        banner.Add("Annotator link", session.LaunchUrl);
+        // The project was created just now, so this session is new and comes with its token and link.
+        banner.Add("Session token", session.Token ?? "(none)");
+        banner.Add("Annotator link", session.LaunchUrl ?? "(none)");
         banner.Add("Owner console", $"{baseUrl}/console   (sign in with the owner key)");
     }
 

@@ -2,6 +2,7 @@ using System.Text.Json;
 using Microsoft.AspNetCore.Http.HttpResults;
 using Microsoft.EntityFrameworkCore;
 using TeachServe.Server.Auth;
+using TeachServe.Server.Contract;
 using TeachServe.Server.Infrastructure;
 using TeachServe.Server.Persistence;
 
@@ -12,7 +13,8 @@ public static class EventsApi
     public static RouteGroupBuilder MapEvents(this IEndpointRouteBuilder api)
     {
         var group = api.MapGroup("/projects/{projectId}/events").WithTags("Events");
-        group.MapGet("/", ExportEvents).RequireKey(KeyRole.Owner)
+        group.MapGet("/", ExportEvents).RequireKey(KeyRole.Owner).WithName("exportEvents")
+            .Problem(StatusCodes.Status400BadRequest, "'after' is not an event id (0 or more).")
             .Produces(StatusCodes.Status200OK, contentType: "application/x-ndjson")
             .WithSummary("The project's append-only event log as JSON Lines, oldest first, streamed; 'after' resumes from an event id.");
         return group;

@@ -16,6 +16,8 @@ public sealed class SessionEvent
 public static class EventTypes
 {
     public const string SessionStarted = "session.started";
+    /// <summary>A start with <c>resume: true</c> retired the active session's token and issued a new one.</summary>
+    public const string SessionResumed = "session.resumed";
     public const string Answer = "answer";
     public const string SessionReleased = "session.released";
     public const string SessionFailed = "session.failed";

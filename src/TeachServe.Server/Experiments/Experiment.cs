@@ -19,4 +19,5 @@ public static class ExperimentStatuses
     public const string Draft = "draft";
     public const string Running = "running";
     public const string Stopped = "stopped";
+    public static readonly IReadOnlyList<string> All = [Draft, Running, Stopped];
 }

@@ -1,4 +1,5 @@
 using TeachServe.Core.Experiments;
+using TeachServe.Plots;
 
 namespace TeachServe.Server.Experiments;
 
@@ -9,65 +10,43 @@ public static class ExperimentPlots
     public const string TestError = "test-error";
     public static readonly IReadOnlyList<string> Names = [LearningCurves, TestError];
 
-    public static ScottPlot.Plot Draw(string name, ExperimentReportResult report) =>
-        name == LearningCurves ? Curves(report) : Histogram(report);
-
-    private static ScottPlot.Plot Curves(ExperimentReportResult report)
+    /// <summary>Each arm is drawn in its policy's fixed style (<see cref="SeriesStyles.ForArms"/>).</summary>
+    public static ScottPlot.Plot Draw(string name, ExperimentReportResult report, ExperimentDefinition definition)
     {
-        var plot = new ScottPlot.Plot();
-        var palette = new ScottPlot.Palettes.Category10();
-        foreach (var arm in report.Arms)
-        {
-            var points = arm.LearningCurve;
-            if (points.Count == 0) continue;
-            var color = palette.GetColor(arm.Arm);
-            var xs = points.Select(p => (double)p.Step).ToArray();
-            var banded = points.Where(p => double.IsFinite(p.Low)).ToArray();
-            if (banded.Length > 1)
-            {
-                var band = plot.Add.FillY(
-                    banded.Select(p => (double)p.Step).ToArray(), banded.Select(p => p.Low).ToArray(), banded.Select(p => p.High).ToArray());
-                band.FillColor = color.WithAlpha(0.15);
-                band.LineWidth = 0;
-            }
-            var line = plot.Add.Scatter(xs, points.Select(p => p.MeanPredictedError).ToArray());
-            line.Color = color;
-            line.MarkerSize = 0;
-            line.LineWidth = 2;
-            line.LegendText = $"{arm.Name} (n = {arm.Started})";
-        }
-        plot.Title($"{report.Experiment}: predicted error by teaching step");
-        plot.XLabel("teaching items shown");
-        plot.YLabel("mean predicted error");
-        plot.Axes.SetLimitsY(0, 1);
-        plot.ShowLegend(ScottPlot.Alignment.UpperRight);
-        return plot;
+        ArgumentNullException.ThrowIfNull(report);
+        ArgumentNullException.ThrowIfNull(definition);
+        var styles = SeriesStyles.ForArms(definition.Arms.Select(a => a.Policy).ToArray());
+        return name == LearningCurves ? Curves(report, styles) : Histogram(report, styles);
     }
 
-    private static ScottPlot.Plot Histogram(ExperimentReportResult report)
+    private static ScottPlot.Plot Curves(ExperimentReportResult report, IReadOnlyList<SeriesStyle> styles) =>
+        Plots.LearningCurves.Draw($"{report.Experiment}: predicted error by teaching step", "mean predicted error",
+            report.Arms.Where(a => a.LearningCurve.Count > 0).Select(a => new CurveSeries(
+                $"{a.Name} (n = {a.Started})", styles[a.Arm],
+                a.LearningCurve.Select(p => (double)p.Step).ToArray(),
+                a.LearningCurve.Select(p => p.MeanPredictedError).ToArray(),
+                a.LearningCurve.Select(p => p.Low).ToArray(),
+                a.LearningCurve.Select(p => p.High).ToArray())).ToList(),
+            targetError: null);
+
+    /// <summary>Each 0.05-wide bin holds one bar per arm, side by side in arm order, with a gap between bins.</summary>
+    private static ScottPlot.Plot Histogram(ExperimentReportResult report, IReadOnlyList<SeriesStyle> styles)
     {
-        var plot = new ScottPlot.Plot();
-        var palette = new ScottPlot.Palettes.Category10();
-        var arms = report.Arms.Count;
+        var plot = PlotTheme.Create($"{report.Experiment}: test error per annotator", "test error (bins of 0.05)", "annotators");
+        var filled = report.Arms.SelectMany(a => a.TestErrorHistogram).Where(b => b.Count > 0).ToArray();
+        // Test errors mostly sit in the lowest bins; the axis ends at the last bin holding anyone, not at 1.
+        var errors = AxisRanges.Rate(filled.Select(b => b.High), atLeast: 0.25);
+        var counts = AxisRanges.Count(filled.Select(b => (double)b.Count + 1));
+        var width = 0.8 * 0.05 / Math.Max(1, report.Arms.Count);
         foreach (var arm in report.Arms)
         {
-            var color = palette.GetColor(arm.Arm);
-            var width = 0.05 / arms;
-            var bars = arm.TestErrorHistogram.Select(b => new ScottPlot.Bar
-            {
-                Position = b.Low + (width * (arm.Arm + 0.5)),
-                Value = b.Count,
-                Size = width * 0.9,
-                FillColor = color,
-            }).ToList();
-            var series = plot.Add.Bars(bars);
-            series.LegendText = $"{arm.Name} (tested {arm.Tested})";
+            var bins = arm.TestErrorHistogram;
+            Marks.Bars(plot, styles[arm.Arm], bins.Select(b => b.Low + (0.1 * 0.05) + (width * (arm.Arm + 0.5))).ToArray(),
+                bins.Select(b => (double)b.Count).ToArray(), width * 0.9, markerLift: 0.04 * counts.High);
         }
-        plot.Title($"{report.Experiment}: test error per annotator");
-        plot.XLabel("test error (bins of 0.05)");
-        plot.YLabel("annotators");
-        plot.Axes.SetLimitsX(0, 1);
-        plot.ShowLegend(ScottPlot.Alignment.UpperRight);
+        plot.Axes.SetLimits(errors.Low, errors.High, counts.Low, counts.High);
+        PlotTheme.IntegerTicks(plot.Axes.Left);
+        PlotTheme.Legend(plot, report.Arms.Select(a => PlotTheme.BarItem($"{a.Name} (tested {a.Tested})", styles[a.Arm])));
         return plot;
     }
 }

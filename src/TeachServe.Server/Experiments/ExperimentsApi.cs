@@ -3,6 +3,7 @@ using Microsoft.AspNetCore.Http.HttpResults;
 using Microsoft.EntityFrameworkCore;
 using TeachServe.Core.Experiments;
 using TeachServe.Server.Auth;
+using TeachServe.Server.Contract;
 using TeachServe.Server.Infrastructure;
 using TeachServe.Server.Persistence;
 using TeachServe.Server.Projects;
@@ -14,23 +15,35 @@ public static class ExperimentsApi
     public static RouteGroupBuilder MapExperiments(this IEndpointRouteBuilder api)
     {
         var project = api.MapGroup("/projects/{projectId}/experiments").WithTags("Experiments");
-        project.MapPost("/", CreateExperiment).RequireKey(KeyRole.Owner)
+        project.MapPost("/", CreateExperiment).RequireKey(KeyRole.Owner).WithName("createExperiment")
+            .Problem(StatusCodes.Status422UnprocessableEntity, "The experiment is not valid; errors names the fields.")
             .WithSummary("Define an experiment (2 to 10 arms); it starts as a draft.");
-        project.MapGet("/", ListExperiments).RequireKey(KeyRole.Owner)
+        project.MapGet("/", ListExperiments).RequireKey(KeyRole.Owner).WithName("listExperiments")
             .WithSummary("The project's experiments, oldest first.");
 
         var experiment = api.MapGroup("/experiments/{experimentId}").WithTags("Experiments");
-        experiment.MapGet("/", GetExperiment).RequireKey(KeyRole.Owner).WithSummary("One experiment's definition and status.");
-        experiment.MapPost("/start", StartExperiment).RequireKey(KeyRole.Owner)
+        experiment.MapGet("/", GetExperiment).RequireKey(KeyRole.Owner).WithName("getExperiment")
+            .Problem(StatusCodes.Status404NotFound, "No such experiment.").WithSummary("One experiment's definition and status.");
+        experiment.MapPost("/start", StartExperiment).RequireKey(KeyRole.Owner).WithName("startExperiment")
+            .Problem(StatusCodes.Status404NotFound, "No such experiment.")
+            .Problem(StatusCodes.Status409Conflict, "The experiment was stopped, or another one runs in the project.")
             .WithSummary("Start assigning new sessions to arms; only one experiment per project runs at a time.");
-        experiment.MapPost("/stop", StopExperiment).RequireKey(KeyRole.Owner)
+        experiment.MapPost("/stop", StopExperiment).RequireKey(KeyRole.Owner).WithName("stopExperiment")
+            .Problem(StatusCodes.Status404NotFound, "No such experiment.")
+            .Problem(StatusCodes.Status409Conflict, "The experiment has not been started.")
             .WithSummary("Stop assigning; sessions already assigned keep their arm and still count in the report.");
-        experiment.MapGet("/report", GetReport).RequireKey(KeyRole.Owner)
+        experiment.MapGet("/report", GetReport).RequireKey(KeyRole.Owner).WithName("getExperimentReport")
+            .Produces<ExperimentReportResult>()
+            .Problem(StatusCodes.Status404NotFound, "No such experiment.")
+            .Problem(StatusCodes.Status422UnprocessableEntity, "The experiment was stored before the current rules and cannot be reported; errors names the fields.")
             .WithSummary("Per-arm numbers and comparisons with the control arm; valid to read at any time (always-valid p-values).");
-        experiment.MapGet("/report.csv", GetReportCsv).RequireKey(KeyRole.Owner)
-            .Produces(StatusCodes.Status200OK, contentType: "text/csv").WithSummary("One row per annotator.");
-        experiment.MapGet("/plots/{file}", GetPlot).RequireKey(KeyRole.Owner)
-            .Produces(StatusCodes.Status200OK, contentType: "image/svg+xml")
+        experiment.MapGet("/report.csv", GetReportCsv).RequireKey(KeyRole.Owner).WithName("getExperimentReportCsv")
+            .Produces(StatusCodes.Status200OK, contentType: "text/csv")
+            .Problem(StatusCodes.Status404NotFound, "No such experiment.").WithSummary("One row per annotator.");
+        experiment.MapGet("/plots/{file}", GetPlot).RequireKey(KeyRole.Owner).WithName("getExperimentPlot")
+            .Produces(StatusCodes.Status200OK, responseType: null, PlotImages.SvgMediaType, PlotImages.PngMediaType)
+            .Problem(StatusCodes.Status404NotFound, "No such experiment, or no such plot name.")
+            .Problem(StatusCodes.Status422UnprocessableEntity, "The experiment was stored before the current rules and cannot be reported; errors names the fields.")
             .WithSummary("learning-curves.svg|png or test-error.svg|png.");
         return experiment;
     }
@@ -52,7 +65,7 @@ public static class ExperimentsApi
             ControlArm = body.ControlArm,
             Salt = Ids.Base32(System.Security.Cryptography.RandomNumberGenerator.GetBytes(10)),
         };
-        var problems = ExperimentValidator.Validate(definition, ProjectsApi.Settings(project).Gate);
+        var problems = ExperimentValidator.Validate(definition, ProjectsApi.Settings(project).Gate, ProjectsApi.Settings(project).Labels.Count, ProjectsApi.Settings(project).Learner.Lapse);
         if (problems.Count > 0)
             return Problems.Unprocessable("The experiment is not valid.", new Dictionary<string, object?>
             {
@@ -138,8 +151,9 @@ public static class ExperimentsApi
         var experiment = await FindAsync(db, user, experimentId, tracked: false, ct);
         if (experiment is null) return Problems.NotFound("No such experiment.");
         var definition = ExperimentArms.Definition(experiment);
+        if (StoredBeforeTheRules(definition) is { } invalid) return invalid;
         var outcomes = await ExperimentOutcomes.LoadAsync(db, experiment, ct);
-        return TypedResults.Json(ExperimentReport.Compute(definition, outcomes), ReportJson.Options);
+        return TypedResults.Json(ExperimentReport.Compute(definition, outcomes, await OptionsAsync(db, experiment, ct)), ReportJson.Options);
     }
 
     public static async Task<Results<ContentHttpResult, ProblemHttpResult>> GetReportCsv(
@@ -158,11 +172,34 @@ public static class ExperimentsApi
             return Problems.NotFound($"No such plot; expected one of {string.Join(", ", ExperimentPlots.Names.SelectMany(n => new[] { n + ".svg", n + ".png" }))}.");
         var experiment = await FindAsync(db, user, experimentId, tracked: false, ct);
         if (experiment is null) return Problems.NotFound("No such experiment.");
-        var report = ExperimentReport.Compute(ExperimentArms.Definition(experiment), await ExperimentOutcomes.LoadAsync(db, experiment, ct));
-        return PlotImages.Render(ExperimentPlots.Draw(name, report), format);
+        var definition = ExperimentArms.Definition(experiment);
+        if (StoredBeforeTheRules(definition) is { } invalid) return invalid;
+        var report = ExperimentReport.Compute(definition, await ExperimentOutcomes.LoadAsync(db, experiment, ct), await OptionsAsync(db, experiment, ct));
+        return PlotImages.Render(ExperimentPlots.Draw(name, report, definition), format);
+    }
+
+    /// <summary>
+    /// An experiment stored before the validator's current ranges (e.g. a minimum detectable effect of 1e-300, or
+    /// weights summing to infinity) has no meaningful plan or comparison: its report and plots answer 422 naming the
+    /// fields, while the CSV export, which needs neither, still works.
+    /// </summary>
+    private static ProblemHttpResult? StoredBeforeTheRules(ExperimentDefinition definition)
+    {
+        var problems = ExperimentValidator.Validate(definition);
+        if (problems.Count == 0) return null;
+        return Problems.Unprocessable(
+            "The experiment was stored before the current rules and cannot be reported; its CSV export still works. Create a new experiment with valid settings.",
+            new Dictionary<string, object?> { ["errors"] = problems.Select(p => new { field = p.Field, message = p.Message }).ToList() });
     }
 
     /// <summary>The experiment if it belongs to the key's project (any project for the admin key); else null, so another project's key sees 404.</summary>
+    /// <summary>Report options from the experiment's project: its cost settings price the arms' items.</summary>
+    private static async Task<ExperimentReportOptions> OptionsAsync(TeachServeDb db, Experiment experiment, CancellationToken ct)
+    {
+        var project = await db.Projects.AsNoTracking().FirstOrDefaultAsync(p => p.Id == experiment.ProjectId, ct);
+        return project is null ? new ExperimentReportOptions() : new ExperimentReportOptions { Cost = ProjectsApi.Settings(project).Cost };
+    }
+
     private static async Task<Experiment?> FindAsync(TeachServeDb db, ClaimsPrincipal user, string experimentId, bool tracked, CancellationToken ct)
     {
         if (!Ids.LooksLike(experimentId, "exp_")) return null;

@@ -1,12 +1,13 @@
 using Microsoft.AspNetCore.Http.HttpResults;
+using TeachServe.Plots;
 
 namespace TeachServe.Server.Experiments;
 
-/// <summary>Server-rendered ScottPlot figures as SVG or PNG responses.</summary>
+/// <summary>Server-rendered figures as SVG or PNG responses, at the report size.</summary>
 public static class PlotImages
 {
-    public const int Width = 900;
-    public const int Height = 560;
+    public const string SvgMediaType = "image/svg+xml";
+    public const string PngMediaType = "image/png";
 
     /// <summary>Splits <c>name.svg</c> / <c>name.png</c>; false for any other extension.</summary>
     public static bool TryParse(string file, out string name, out string format)
@@ -20,6 +21,6 @@ public static class PlotImages
     }
 
     public static FileContentHttpResult Render(ScottPlot.Plot plot, string format) => format == "png"
-        ? TypedResults.File(plot.GetImageBytes(Width, Height, ScottPlot.ImageFormat.Png), "image/png")
-        : TypedResults.File(System.Text.Encoding.UTF8.GetBytes(plot.GetSvgXml(Width, Height)), "image/svg+xml");
+        ? TypedResults.File(PlotOutput.Png(plot, PlotSize.Report), PngMediaType)
+        : TypedResults.File(PlotOutput.SvgBytes(plot, PlotSize.Report), SvgMediaType);
 }

@@ -1,4 +1,5 @@
 using TeachServe.Core.Fitting;
+using TeachServe.Plots;
 
 namespace TeachServe.Server.Fits;
 
@@ -7,32 +8,14 @@ public static class FitPlots
 {
     public static ScottPlot.Plot Calibration(ReliabilityPlotData data, double brier)
     {
-        var plot = new ScottPlot.Plot();
-        var diagonal = plot.Add.Line(0, 0, data.AxisMax, data.AxisMax);
-        diagonal.LinePattern = ScottPlot.LinePattern.Dashed;
-        diagonal.Color = ScottPlot.Colors.Gray;
-        diagonal.LegendText = "perfect calibration";
-        if (data.Points.Count > 0)
-        {
-            var xs = data.Points.Select(p => p.MeanPredicted).ToArray();
-            var ys = data.Points.Select(p => p.MeanObserved).ToArray();
-            // Wilson intervals are asymmetric, so each is its own vertical segment.
-            foreach (var p in data.Points)
-            {
-                var bar = plot.Add.Line(p.MeanPredicted, p.Low, p.MeanPredicted, p.High);
-                bar.Color = ScottPlot.Colors.SteelBlue;
-            }
-            var points = plot.Add.Scatter(xs, ys);
-            points.LineWidth = 0;
-            points.MarkerSize = 8;
-            points.Color = ScottPlot.Colors.SteelBlue;
-            points.LegendText = "observed test error (Wilson 95 %)";
-        }
-        plot.Title(double.IsFinite(brier) ? $"Calibration of predicted error (Brier {brier:0.0000})" : "Calibration of predicted error");
-        plot.XLabel("predicted error at the end of teaching");
-        plot.YLabel("observed held-out test error");
-        plot.Axes.SetLimits(0, data.AxisMax, 0, 1);
-        plot.ShowLegend(ScottPlot.Alignment.UpperLeft);
-        return plot;
+        ArgumentNullException.ThrowIfNull(data);
+        var points = data.Points;
+        return CalibrationFigure.Draw(
+            double.IsFinite(brier) ? $"Calibration of predicted error (Brier {brier:0.0000})" : "Calibration of predicted error",
+            "predicted error at the end of teaching", "observed held-out test error",
+            new CalibrationSeries("observed test error per bin (Wilson 95 %)",
+                points.Select(p => p.MeanPredicted).ToArray(), points.Select(p => p.MeanObserved).ToArray(),
+                points.Select(p => p.Low).ToArray(), points.Select(p => p.High).ToArray()),
+            targetError: null);
     }
 }

@@ -5,6 +5,7 @@ using Microsoft.EntityFrameworkCore;
 using TeachServe.Core.Fitting;
 using TeachServe.Core.Projects;
 using TeachServe.Server.Auth;
+using TeachServe.Server.Contract;
 using TeachServe.Server.Experiments;
 using TeachServe.Server.Infrastructure;
 using TeachServe.Server.Persistence;
@@ -22,14 +23,20 @@ public static class FitsApi
     public static RouteGroupBuilder MapFits(this IEndpointRouteBuilder api)
     {
         var project = api.MapGroup("/projects/{projectId}/fits").WithTags("Fits");
-        project.MapPost("/", CreateFit).RequireKey(KeyRole.Owner)
+        project.MapPost("/", CreateFit).RequireKey(KeyRole.Owner).WithName("createFit")
+            .Produces<FitView>(StatusCodes.Status201Created)
+            .Problem(StatusCodes.Status422UnprocessableEntity, "A setting is out of range, the version has no finished session with answers, or the fit took too long.")
             .WithSummary("Fit alpha and lapse to the finished sessions of a model version; calibration of predicted error.");
 
         var fit = api.MapGroup("/fits/{fitId}").WithTags("Fits");
-        fit.MapGet("/", GetFit).RequireKey(KeyRole.Owner).WithSummary("Estimates, profile intervals and profiles, calibration table, Brier score.");
-        fit.MapGet("/{file}", GetCalibrationPlot).RequireKey(KeyRole.Owner)
-            .Produces(StatusCodes.Status200OK, contentType: "image/svg+xml").WithSummary("calibration.svg or calibration.png.");
-        fit.MapPost("/apply", ApplyFit).RequireKey(KeyRole.Owner)
+        fit.MapGet("/", GetFit).RequireKey(KeyRole.Owner).WithName("getFit")
+            .Produces<FitView>().Problem(StatusCodes.Status404NotFound, "No such fit.").WithSummary("Estimates, profile intervals and profiles, calibration table, Brier score.");
+        fit.MapGet("/{file}", GetCalibrationPlot).RequireKey(KeyRole.Owner).WithName("getCalibrationPlot")
+            .Produces(StatusCodes.Status200OK, responseType: null, PlotImages.SvgMediaType, PlotImages.PngMediaType)
+            .Problem(StatusCodes.Status404NotFound, "No such fit, or no such plot name.").WithSummary("calibration.svg or calibration.png.");
+        fit.MapPost("/apply", ApplyFit).RequireKey(KeyRole.Owner).WithName("applyFit")
+            .Produces<FitView>().Problem(StatusCodes.Status404NotFound, "No such fit.")
+            .Problem(StatusCodes.Status422UnprocessableEntity, "The fitted values are outside the ranges the settings allow.")
             .WithSummary("Write the fitted alpha and lapse into the project's learner settings; the next compiled version uses them.");
         return fit;
     }

@@ -1,41 +1,28 @@
 using Microsoft.AspNetCore.Http.HttpResults;
-using Microsoft.EntityFrameworkCore;
-using TeachServe.Server.Infrastructure;
-using TeachServe.Server.Persistence;
+using TeachServe.Server.Contract;
 
 namespace TeachServe.Server.Health;
 
 public sealed record HealthStatus(string Status);
 
+/// <summary>Liveness and readiness probes: cheap (no database query on <c>/healthz</c>; a cached one on <c>/readyz</c>, which is rate limited per client address like any request without a key).</summary>
 public static class HealthApi
 {
+    /// <summary>What <see cref="HealthStatus.Status"/> says: <c>ok</c> on /healthz, <c>ready</c> on /readyz.</summary>
+    public static readonly IReadOnlyList<string> Statuses = ["ok", "ready"];
+
     public static IEndpointRouteBuilder MapHealth(this IEndpointRouteBuilder app)
     {
+        // Liveness does no work at all (cheaper than a rate-limit check), and the load harness measures its baseline on it.
         app.MapGet("/healthz", () => TypedResults.Ok(new HealthStatus("ok")))
-            .WithTags("Health").DisableRateLimiting().WithSummary("The process is up.");
+            .WithTags("Health").WithName("getLiveness").DisableRateLimiting().WithSummary("The process is up.");
         app.MapGet("/readyz", Ready)
-            .WithTags("Health").DisableRateLimiting().WithSummary("The database is reachable and fully migrated.");
+            .WithTags("Health").WithName("getReadiness").Problem(StatusCodes.Status503ServiceUnavailable, "The database is unreachable or not fully migrated.").WithSummary("The database is reachable and fully migrated (checked at most every two seconds per node).");
         return app;
     }
 
-    public static async Task<Results<Ok<HealthStatus>, ProblemHttpResult>> Ready(
-        TeachServeDb db, StartupState startup, CancellationToken ct)
-    {
-        if (!startup.IsReady) return NotReady("The server is still starting (migrations, demo project).");
-        try
-        {
-            if (!await db.Database.CanConnectAsync(ct)) return NotReady("The database cannot be reached.");
-            var pending = await db.Database.GetPendingMigrationsAsync(ct);
-            return pending.Any()
-                ? NotReady($"Migrations not applied: {string.Join(", ", pending)}.")
-                : TypedResults.Ok(new HealthStatus("ready"));
-        }
-        catch (Exception e) when (e is not OperationCanceledException)
-        {
-            return NotReady("The database cannot be reached.");
-        }
-    }
-
-    private static ProblemHttpResult NotReady(string detail) =>
-        TypedResults.Problem(detail, statusCode: StatusCodes.Status503ServiceUnavailable, title: "Not ready");
+    public static async Task<Results<Ok<HealthStatus>, ProblemHttpResult>> Ready(ReadinessProbe probe, CancellationToken ct) =>
+        await probe.ProblemAsync(ct) is { } problem
+            ? TypedResults.Problem(problem, statusCode: StatusCodes.Status503ServiceUnavailable, title: "Not ready")
+            : TypedResults.Ok(new HealthStatus("ready"));
 }

@@ -28,8 +28,8 @@ public sealed partial class ProblemDetailsExceptionHandler(
         var problem = exception switch
         {
             ApiProblemException e => Problem(e.Status, e.Title, e.Message, e.Extensions),
-            BadHttpRequestException e => Problem(e.StatusCode, TitleFor(e.StatusCode), Describe(e)),
-            JsonException e => Problem(StatusCodes.Status400BadRequest, "Malformed JSON", e.Message),
+            BadHttpRequestException e => Problem(e.StatusCode, TitleFor(e.StatusCode), ProblemText.Describe(e)),
+            JsonException e => Problem(StatusCodes.Status400BadRequest, "Malformed JSON", ProblemText.Describe(e)),
             DbUpdateConcurrencyException => Problem(StatusCodes.Status409Conflict, "Conflict",
                 "The resource was changed by another request; read it again and retry."),
             _ when DatabaseUnavailable.Is(exception) => Problem(StatusCodes.Status503ServiceUnavailable, "Database unavailable",
@@ -64,9 +64,6 @@ public sealed partial class ProblemDetailsExceptionHandler(
             foreach (var (k, v) in extensions) p.Extensions[k] = v;
         return p;
     }
-
-    private static string Describe(BadHttpRequestException e) =>
-        e.InnerException is JsonException json ? $"{e.Message} {json.Message}" : e.Message;
 
     private static string TitleFor(int status) => status switch
     {

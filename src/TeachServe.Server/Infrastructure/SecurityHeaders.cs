@@ -4,8 +4,7 @@ namespace TeachServe.Server.Infrastructure;
 /// Headers on every response, errors included: no content sniffing, no referrer (launch links and API paths
 /// carry ids), and a content security policy. API responses get the strictest policy (nothing may load, nothing
 /// may frame them); HTML pages may load only their own scripts and styles, and may be framed, because platforms
-/// embed the annotator page. A page that sets its own policy keeps it. The interactive API reference loads its
-/// scripts from its package, so it gets the page policy plus inline styles.
+/// embed the annotator page. A page that sets its own policy keeps it.
 /// </summary>
 public static class SecurityHeaders
 {
@@ -23,10 +22,7 @@ public static class SecurityHeaders
             if (headers.ContentSecurityPolicy.Count == 0)
             {
                 var html = response.ContentType?.StartsWith("text/html", StringComparison.OrdinalIgnoreCase) == true;
-                headers.ContentSecurityPolicy = !html ? ApiPolicy
-                    : response.HttpContext.Request.Path.StartsWithSegments("/scalar", StringComparison.OrdinalIgnoreCase)
-                        ? "default-src 'self' 'unsafe-inline'; img-src 'self' data: https:; object-src 'none'; base-uri 'none'"
-                        : PagePolicy;
+                headers.ContentSecurityPolicy = html ? PagePolicy : ApiPolicy;
             }
             return Task.CompletedTask;
         }, http);

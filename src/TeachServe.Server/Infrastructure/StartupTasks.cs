@@ -13,6 +13,7 @@ public sealed partial class StartupTasks(
     IServiceScopeFactory scopes,
     IOptions<TeachServeOptions> options,
     AdminKeyStore adminKeys,
+    Workers.AuditSubjects auditSubjects,
     StartupState state,
     StartupBanner banner,
     ILogger<StartupTasks> logger) : IHostedService
@@ -28,11 +29,15 @@ public sealed partial class StartupTasks(
         LogMigrated(logger, db.Database.ProviderName ?? "?");
 
         await SettleAdminKeyAsync(db, o, cancellationToken);
+        auditSubjects.SetKey(o.AuditKey is { } auditKey
+            ? System.Text.Encoding.UTF8.GetBytes(auditKey)
+            : Convert.FromHexString(await GeneratedSecretAsync(db, Workers.AuditSubjects.Setting, cancellationToken)));
         foreach (var task in scope.ServiceProvider.GetServices<IStartupStep>())
             await task.RunAsync(db, banner, cancellationToken);
 
-        state.MarkReady();
+        // The banner first: whoever sees the node ready has been told what it runs with.
         if (o.PrintStartupBanner) banner.Print();
+        state.MarkReady();
     }
 
     public Task StopAsync(CancellationToken cancellationToken) => Task.CompletedTask;
@@ -70,6 +75,28 @@ public sealed partial class StartupTasks(
         }
         adminKeys.Set(hash);
         banner.Add("Admin key", $"{key}   (shown once; stored hashed)");
+    }
+
+    /// <summary>
+    /// A server secret kept in the database: the stored one, or 32 random bytes (hex) stored now. Of two nodes
+    /// starting at once on one database, the first to store wins and the other reads the winner's.
+    /// </summary>
+    public static async Task<string> GeneratedSecretAsync(TeachServeDb db, string setting, CancellationToken ct)
+    {
+        var stored = await db.ServerSettings.AsNoTracking().FirstOrDefaultAsync(s => s.Key == setting, ct);
+        if (stored is not null) return stored.Value;
+        var value = Convert.ToHexString(System.Security.Cryptography.RandomNumberGenerator.GetBytes(32));
+        db.ServerSettings.Add(new ServerSetting { Key = setting, Value = value });
+        try
+        {
+            await db.SaveChangesAsync(ct);
+            return value;
+        }
+        catch (DbUpdateException)
+        {
+            db.ChangeTracker.Clear();
+            return (await db.ServerSettings.AsNoTracking().FirstAsync(s => s.Key == setting, ct)).Value;
+        }
     }
 
     [LoggerMessage(Level = LogLevel.Information, Message = "Database migrated ({Provider})")]

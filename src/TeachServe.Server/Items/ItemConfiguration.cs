@@ -14,6 +14,7 @@ public sealed class ItemConfiguration : IEntityTypeConfiguration<Item>
         builder.Property(i => i.ItemId).HasMaxLength(ItemLimits.IdLength);
         builder.Property(i => i.Pool).HasMaxLength(8);
         builder.Property(i => i.Label).HasMaxLength(ProjectLimits.LabelLength);
+        builder.Property(i => i.EmbeddingModel).HasMaxLength(ItemLimits.EmbeddingModelLength);
         builder.HasOne<Project>().WithMany().HasForeignKey(i => i.ProjectId).OnDelete(DeleteBehavior.Cascade);
     }
 }

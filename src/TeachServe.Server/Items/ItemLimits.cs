@@ -9,4 +9,5 @@ public static class ItemLimits
     public const int MaxFeatures = 200;
     public const int MaxAttributes = 200;
     public const int NameLength = 100;
+    public const int EmbeddingModelLength = 200;
 }

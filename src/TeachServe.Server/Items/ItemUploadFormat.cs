@@ -12,6 +12,7 @@ public enum ItemUploadFormat
 public static class ItemUploadFormats
 {
     public const string JsonLinesMediaType = "application/x-ndjson";
+    public const string CsvMediaType = "text/csv";
 
     public static ItemUploadFormat? FromContentType(string? contentType)
     {
@@ -20,7 +21,7 @@ public static class ItemUploadFormats
         {
             "application/x-ndjson" or "application/jsonl" or "application/jsonlines" or "application/json-lines" => ItemUploadFormat.JsonLines,
             "application/json" => ItemUploadFormat.JsonArray,
-            "text/csv" or "application/csv" => ItemUploadFormat.Csv,
+            CsvMediaType or "application/csv" => ItemUploadFormat.Csv,
             _ => null,
         };
     }

@@ -5,6 +5,7 @@ using Microsoft.EntityFrameworkCore;
 using Microsoft.Extensions.Options;
 using TeachServe.Core.Projects;
 using TeachServe.Server.Auth;
+using TeachServe.Server.Contract;
 using TeachServe.Server.Infrastructure;
 using TeachServe.Server.Persistence;
 using TeachServe.Server.Projects;
@@ -18,15 +19,18 @@ public static class ItemsApi
     public static RouteGroupBuilder MapItems(this IEndpointRouteBuilder api)
     {
         var group = api.MapGroup("/projects/{projectId}/items").WithTags("Items");
-        group.MapPost("/", UploadItems).RequireKey(KeyRole.Owner)
-            .Accepts<ItemDefinition[]>(ItemUploadFormats.JsonLinesMediaType, "application/json", "text/csv")
+        group.MapPost("/", UploadItems).RequireKey(KeyRole.Owner).WithName("uploadItems")
+            // The media types listed here are also the ones routing lets through (any other is 415 before the handler).
+            .Accepts<ItemDefinition[]>(ItemUploadFormats.JsonLinesMediaType, "application/json", ItemUploadFormats.CsvMediaType)
+            .AddOpenApiOperationTransformer(ItemUploadBodies.DescribeAsync)
+            .Problem(StatusCodes.Status422UnprocessableEntity, "Some items are not valid (errors names each line and field), or the project would hold too many; nothing was stored.")
             .WithSummary("Upsert items by id from JSON Lines, a JSON array or CSV; all or nothing.");
         return group;
     }
 
     public static async Task<Results<Ok<ItemUploadResult>, ProblemHttpResult>> UploadItems(
         string projectId, HttpRequest request, TeachServeDb db, TimeProvider time,
-        IOptions<TeachServeOptions> options, CancellationToken ct)
+        IOptions<TeachServeOptions> options, TextEmbeddings embeddings, CancellationToken ct)
     {
         var limits = options.Value.Uploads;
         var project = await db.Projects.AsNoTracking().FirstOrDefaultAsync(p => p.Id == projectId, ct);
@@ -36,18 +40,20 @@ public static class ItemsApi
                 "Send items as application/x-ndjson (JSON Lines), application/json (an array) or text/csv.");
 
         var body = await ReadBodyAsync(request, limits.MaxUploadBytes, ct);
-        var parsed = ItemParsing.Read(format, body, ProjectsApi.Settings(project), limits.MaxItemsPerUpload);
+        var settings = ProjectsApi.Settings(project);
+        var parsed = ItemParsing.Read(format, body, settings, limits.MaxItemsPerUpload);
         if (parsed.Problems.Count > 0)
             return Problems.Unprocessable(
                 $"{parsed.Problems.Count} problem(s) found; nothing was stored.",
                 new Dictionary<string, object?> { ["errors"] = parsed.Problems });
 
-        return await StoreAsync(db, projectId, parsed.Items, limits, time, ct);
+        return await StoreAsync(db, projectId, settings, parsed.Items, limits, time, embeddings, ct);
     }
 
     /// <summary>Upserts validated items by id in one transaction (the API's upload and the console's file picker share it).</summary>
     public static async Task<Results<Ok<ItemUploadResult>, ProblemHttpResult>> StoreAsync(
-        TeachServeDb db, string projectId, IReadOnlyList<ItemDefinition> items, UploadOptions limits, TimeProvider time, CancellationToken ct)
+        TeachServeDb db, string projectId, ProjectSettings settings, IReadOnlyList<ItemDefinition> items, UploadOptions limits, TimeProvider time,
+        TextEmbeddings embeddings, CancellationToken ct)
     {
         var ids = items.Select(i => i.Id).ToList();
         var existing = await db.Items.Where(i => i.ProjectId == projectId && ids.Contains(i.ItemId))
@@ -85,6 +91,8 @@ public static class ItemsApi
                 updated++;
             }
         }
+        if (settings.Family?.Kind == FamilyKinds.Text)
+            await EmbedTextsAsync(db, projectId, embeddings, ct);
         // One SaveChanges is one transaction: the upload is stored whole or not at all.
         await db.SaveChangesAsync(ct);
 
@@ -93,6 +101,29 @@ public static class ItemsApi
         return TypedResults.Ok(new ItemUploadResult(items.Count, created, updated, unchanged, new ItemCounts(
             counts.FirstOrDefault(c => c.Pool == Pools.Teach)?.Count ?? 0,
             counts.FirstOrDefault(c => c.Pool == Pools.Test)?.Count ?? 0)));
+    }
+
+    /// <summary>
+    /// Family <c>text</c>: embeds every item of the project, tracked or stored, whose text has no embedding from the
+    /// current model yet (new and changed items, and items uploaded before the project became a text project), so
+    /// each text is embedded once. The rows are saved by the caller, in the same transaction as the upload.
+    /// </summary>
+    public static async Task<int> EmbedTextsAsync(TeachServeDb db, string projectId, TextEmbeddings embeddings, CancellationToken ct)
+    {
+        var model = embeddings.ModelName;
+        await db.Items.Where(i => i.ProjectId == projectId && (i.Embedding == null || i.EmbeddingModel != model)).LoadAsync(ct);
+        var stale = db.ChangeTracker.Entries<Item>()
+            .Where(e => e.Entity.ProjectId == projectId && e.State != EntityState.Deleted
+                && (e.State is EntityState.Added or EntityState.Modified || e.Entity.Embedding is null || e.Entity.EmbeddingModel != model))
+            .Select(e => e.Entity).ToList();
+        var texts = stale.Select(i => Json.Deserialize<ItemDefinition>(i.Json).Content?.Text ?? "").ToList();
+        var vectors = await embeddings.EmbedAsync(texts, ct);
+        for (var i = 0; i < stale.Count; i++)
+        {
+            stale[i].Embedding = TextEmbeddings.ToBytes(vectors[i]);
+            stale[i].EmbeddingModel = model;
+        }
+        return stale.Count;
     }
 
     /// <summary>Reads at most <paramref name="limit"/> bytes of UTF-8; more is 413, invalid UTF-8 is 400.</summary>

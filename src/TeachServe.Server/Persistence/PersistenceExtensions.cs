@@ -35,12 +35,16 @@ public static class PersistenceExtensions
     /// <summary>
     /// Applies the provider's own migrations (each context only sees the ones in its folder); SQLite additionally
     /// switches to write-ahead logging so readers never block the writer. Several nodes may start at once against
-    /// one PostgreSQL: EF Core takes a database lock around migrating, so only one applies them.
+    /// one PostgreSQL: EF Core takes a database lock around migrating, so only one applies them. SQLite's folder and
+    /// files are created readable by the server's user only (<see cref="DataFileModes"/>).
     /// </summary>
     public static async Task MigrateAsync(TeachServeDb db, TeachServeOptions options, CancellationToken ct)
     {
-        if (db.Database.IsSqlite() && options.Database.ConnectionString is not { Length: > 0 })
-            Directory.CreateDirectory(Path.GetFullPath(options.DataDirectory));
+        if (db.Database.IsSqlite())
+        {
+            var inDataDirectory = options.Database.ConnectionString is not { Length: > 0 };
+            DataFileModes.Prepare(SqliteConnectionString(options), inDataDirectory ? options.DataDirectory : null);
+        }
         await db.Database.MigrateAsync(ct);
         if (db.Database.IsSqlite())
             await db.Database.ExecuteSqlRawAsync("PRAGMA journal_mode=WAL;", ct);

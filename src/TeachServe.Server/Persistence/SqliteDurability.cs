@@ -19,10 +19,14 @@ namespace TeachServe.Server.Persistence;
 /// a busy statement after sleeping 150 ms on the calling thread; under load those sleeps were most of the answer
 /// latency (p99 from ~500 ms to ~90 ms in the load harness when this was added).
 /// </para>
+/// <para>
+/// And <c>secure_delete=ON</c>: deleted content is overwritten with zeros, so an erased worker's rows do not stay
+/// readable in free pages of the file (see <see cref="Workers.ErasureScrub"/> for the write-ahead log).
+/// </para>
 /// </summary>
 public sealed class SqliteDurability : DbConnectionInterceptor
 {
-    public const string Pragma = "PRAGMA synchronous=FULL; PRAGMA busy_timeout=30000;";
+    public const string Pragma = "PRAGMA synchronous=FULL; PRAGMA busy_timeout=30000; PRAGMA secure_delete=ON;";
 
     /// <summary>
     /// Physical connections already set up. The provider pools them and EF opens one for every query, so the

@@ -29,6 +29,7 @@ public abstract class TeachServeDb(DbContextOptions options) : DbContext(options
     public DbSet<AuditEntry> Audit => Set<AuditEntry>();
     public DbSet<ServerSetting> ServerSettings => Set<ServerSetting>();
     public DbSet<DataProtectionKey> DataProtectionKeys => Set<DataProtectionKey>();
+    public DbSet<Exposure.TestExposure> TestExposures => Set<Exposure.TestExposure>();
 
     protected override void OnModelCreating(ModelBuilder modelBuilder) =>
         modelBuilder.ApplyConfigurationsFromAssembly(typeof(TeachServeDb).Assembly);

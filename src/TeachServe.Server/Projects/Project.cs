@@ -10,6 +10,7 @@ public sealed class Project
     public required byte[] OwnerKeyHash { get; set; }
     public required byte[] EmbedKeyHash { get; set; }
     public string? WebhookUrl { get; set; }
+    /// <summary>Encrypted at rest (<see cref="Webhooks.WebhookSecrets"/>); rows of older servers may still hold plaintext.</summary>
     public string? WebhookSecret { get; set; }
     public DateTimeOffset CreatedAt { get; set; }
     public DateTimeOffset UpdatedAt { get; set; }

@@ -15,6 +15,6 @@ public sealed class ProjectConfiguration : IEntityTypeConfiguration<Project>
         builder.Property(p => p.OwnerKeyHash).HasMaxLength(32);
         builder.Property(p => p.EmbedKeyHash).HasMaxLength(32);
         builder.Property(p => p.WebhookUrl).HasMaxLength(ProjectLimits.UrlLength);
-        builder.Property(p => p.WebhookSecret).HasMaxLength(ProjectLimits.SecretLength);
+        builder.Property(p => p.WebhookSecret).HasMaxLength(ProjectLimits.StoredSecretLength);
     }
 }

@@ -13,7 +13,8 @@ public sealed record ProjectDocument(ProjectSettings Settings, ReleaseWebhookSet
 {
     public const string WebhookProperty = "releaseWebhook";
 
-    public static ProjectDocument Parse(JsonNode? node)
+    /// <param name="keptSecret">The webhook secret the project already has (on a patch); it is not checked again.</param>
+    public static ProjectDocument Parse(JsonNode? node, string? keptSecret = null)
     {
         if (node is not JsonObject obj)
             throw ApiProblemException.BadRequest("The body must be a JSON object shaped like project.json.");
@@ -23,7 +24,7 @@ public sealed record ProjectDocument(ProjectSettings Settings, ReleaseWebhookSet
             webhook = Read<ReleaseWebhookSettings>(hook, WebhookProperty);
         var settings = Read<ProjectSettings>(obj, "settings");
         var document = new ProjectDocument(settings, webhook);
-        var errors = SettingsRules.Check(document);
+        var errors = SettingsRules.Check(document, keptSecret);
         if (errors.Count > 0)
             throw ApiProblemException.Unprocessable("The project settings are not valid.").With("errors", errors);
         return document;
@@ -61,7 +62,7 @@ public sealed record ProjectDocument(ProjectSettings Settings, ReleaseWebhookSet
         }
         catch (JsonException e)
         {
-            throw ApiProblemException.BadRequest($"The {what} do not match the project.json shape: {e.Message}");
+            throw ApiProblemException.BadRequest($"The {what} do not match the project.json shape: {ProblemText.Describe(e)}");
         }
     }
 }

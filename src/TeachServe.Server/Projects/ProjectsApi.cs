@@ -3,8 +3,10 @@ using Microsoft.AspNetCore.Http.HttpResults;
 using Microsoft.EntityFrameworkCore;
 using TeachServe.Core.Projects;
 using TeachServe.Server.Auth;
+using TeachServe.Server.Contract;
 using TeachServe.Server.Infrastructure;
 using TeachServe.Server.Persistence;
+using TeachServe.Server.Webhooks;
 using TeachServe.Server.Versions;
 
 namespace TeachServe.Server.Projects;
@@ -14,26 +16,30 @@ public static class ProjectsApi
     public static RouteGroupBuilder MapProjects(this IEndpointRouteBuilder api)
     {
         var group = api.MapGroup("/projects").WithTags("Projects");
-        group.MapPost("/", CreateProject).RequireKey(KeyRole.Admin)
+        group.MapPost("/", CreateProject).RequireKey(KeyRole.Admin).WithName("createProject")
+            .AddOpenApiOperationTransformer(ProjectBodies.DescribeDocumentAsync)
+            .Problem(StatusCodes.Status422UnprocessableEntity, "The settings are not valid; errors names the fields.")
             .WithSummary("Create a project from a project.json document (admin key); the response shows its keys once.");
-        group.MapGet("/{projectId}", GetProject).RequireKey(KeyRole.Owner)
+        group.MapGet("/{projectId}", GetProject).RequireKey(KeyRole.Owner).WithName("getProject")
             .WithSummary("Read a project's settings, item counts and newest ready model version.");
-        group.MapPatch("/{projectId}", PatchProject).RequireKey(KeyRole.Owner)
+        group.MapPatch("/{projectId}", PatchProject).RequireKey(KeyRole.Owner).WithName("patchProject")
+            .AddOpenApiOperationTransformer(ProjectBodies.DescribeMergePatchAsync)
+            .Problem(StatusCodes.Status422UnprocessableEntity, "The patched settings are not valid, or items still carry a label the patch removes.")
             .WithSummary("Change settings with a JSON merge patch (RFC 7386) of the project document.");
         return group;
     }
 
     public static async Task<Created<ProjectCreated>> CreateProject(
-        JsonNode? body, TeachServeDb db, TimeProvider time, CancellationToken ct)
+        JsonNode? body, TeachServeDb db, TimeProvider time, WebhookSecrets secrets, CancellationToken ct)
     {
         var document = ProjectDocument.Parse(body);
-        var (project, created) = await CreateAsync(db, time, document, ct);
+        var (project, created) = await CreateAsync(db, time, secrets, document, ct);
         return TypedResults.Created($"/api/v1/projects/{project.Id}", created);
     }
 
     /// <summary>Stores a new project and returns its keys in clear, which are never shown again.</summary>
     public static async Task<(Project, ProjectCreated)> CreateAsync(
-        TeachServeDb db, TimeProvider time, ProjectDocument document, CancellationToken ct)
+        TeachServeDb db, TimeProvider time, WebhookSecrets secrets, ProjectDocument document, CancellationToken ct)
     {
         var id = Ids.NewProjectId();
         var ownerKey = ApiKeys.NewOwnerKey(id);
@@ -47,7 +53,7 @@ public static class ProjectsApi
             OwnerKeyHash = ApiKeys.Hash(ownerKey),
             EmbedKeyHash = ApiKeys.Hash(embedKey),
             WebhookUrl = document.ReleaseWebhook?.Url,
-            WebhookSecret = document.ReleaseWebhook?.Secret,
+            WebhookSecret = secrets.Protect(document.ReleaseWebhook?.Secret),
             CreatedAt = now,
             UpdatedAt = now,
         };
@@ -65,15 +71,16 @@ public static class ProjectsApi
     }
 
     public static async Task<Results<Ok<ProjectView>, ProblemHttpResult>> PatchProject(
-        string projectId, JsonNode? body, TeachServeDb db, TimeProvider time, CancellationToken ct)
+        string projectId, JsonNode? body, TeachServeDb db, TimeProvider time, WebhookSecrets secrets, CancellationToken ct)
     {
         var project = await db.Projects.FirstOrDefaultAsync(p => p.Id == projectId, ct);
         if (project is null) return Problems.NotFound("No such project.");
         if (body is not JsonObject)
             return Problems.BadRequest("The body must be a JSON merge patch object.");
 
-        var current = Document(project);
-        var patched = ProjectDocument.Parse(ProjectDocument.MergePatch(current.ToJson(includeSecret: true), body));
+        var current = Document(project, secrets);
+        var patched = ProjectDocument.Parse(
+            ProjectDocument.MergePatch(current.ToJson(includeSecret: true), body), current.ReleaseWebhook?.Secret);
 
         var removed = current.Settings.Labels.Except(patched.Settings.Labels, StringComparer.Ordinal).ToList();
         if (removed.Count > 0 && await db.Items.AnyAsync(i => i.ProjectId == projectId && removed.Contains(i.Label), ct))
@@ -83,15 +90,15 @@ public static class ProjectsApi
         project.Name = patched.Settings.Name;
         project.SettingsJson = Json.Serialize(patched.Settings);
         project.WebhookUrl = patched.ReleaseWebhook?.Url;
-        project.WebhookSecret = patched.ReleaseWebhook?.Secret;
+        project.WebhookSecret = secrets.Protect(patched.ReleaseWebhook?.Secret);
         project.UpdatedAt = time.GetUtcNow();
         await db.SaveChangesAsync(ct);
         return TypedResults.Ok(await ViewAsync(db, project, ct));
     }
 
-    public static ProjectDocument Document(Project project) =>
+    public static ProjectDocument Document(Project project, WebhookSecrets secrets) =>
         new(Settings(project),
-            project.WebhookUrl is { } url ? new ReleaseWebhookSettings { Url = url, Secret = project.WebhookSecret ?? "" } : null);
+            project.WebhookUrl is { } url ? new ReleaseWebhookSettings { Url = url, Secret = secrets.Reveal(project.WebhookSecret) ?? "" } : null);
 
     public static ProjectSettings Settings(Project project) => Json.Deserialize<ProjectSettings>(project.SettingsJson);
 

@@ -1,4 +1,5 @@
 using TeachServe.Core.Projects;
+using TeachServe.Server.Webhooks;
 
 namespace TeachServe.Server.Projects;
 
@@ -13,7 +14,8 @@ public static class SettingsRules
 {
     private const string SettingsSource = "project";
 
-    public static List<FieldProblem> Check(ProjectDocument document)
+    /// <param name="keptSecret">The webhook secret the project already has, which passes as it is.</param>
+    public static List<FieldProblem> Check(ProjectDocument document, string? keptSecret = null)
     {
         var s = document.Settings;
         var errors = ProjectValidator.Validate(s, [], new ProjectSources(SettingsSource, "items"))
@@ -50,8 +52,10 @@ public static class SettingsRules
             Require(hook.Url.Length <= ProjectLimits.UrlLength
                     && Uri.TryCreate(hook.Url, UriKind.Absolute, out var uri) && uri.Scheme is "http" or "https",
                 "releaseWebhook.url", "must be an absolute http or https URL");
-            Require(hook.Secret.Length is >= ProjectLimits.MinSecretLength and <= ProjectLimits.SecretLength,
-                "releaseWebhook.secret", $"must be {ProjectLimits.MinSecretLength} to {ProjectLimits.SecretLength} characters");
+            // A secret stored before the whsec_ form was required is kept as it is until the owner replaces it.
+            Require((hook.Secret.Length > 0 && hook.Secret == keptSecret) || WebhookSigningKey.TryParse(hook.Secret, out _), "releaseWebhook.secret",
+                $"must be {WebhookSigningKey.Prefix} followed by the base64 of {WebhookSigningKey.MinBytes} to {WebhookSigningKey.MaxBytes} random bytes " +
+                "(Standard Webhooks), e.g. the output of: echo \"whsec_$(openssl rand -base64 32)\"");
         }
         return errors;
     }

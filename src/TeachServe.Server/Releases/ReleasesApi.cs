@@ -2,6 +2,7 @@ using System.Globalization;
 using Microsoft.AspNetCore.Http.HttpResults;
 using Microsoft.EntityFrameworkCore;
 using TeachServe.Server.Auth;
+using TeachServe.Server.Contract;
 using TeachServe.Server.Infrastructure;
 using TeachServe.Server.Persistence;
 using TeachServe.Server.Sessions;
@@ -18,7 +19,8 @@ public static class ReleasesApi
     public static RouteGroupBuilder MapReleases(this IEndpointRouteBuilder api)
     {
         var group = api.MapGroup("/projects/{projectId}/releases").WithTags("Releases");
-        group.MapGet("/", ListReleases).RequireKey(KeyRole.Owner, KeyRole.Embed)
+        group.MapGet("/", ListReleases).RequireKey(KeyRole.Owner, KeyRole.Embed).WithName("listReleases")
+            .Problem(StatusCodes.Status400BadRequest, "'after' is not a cursor of this feed, or 'limit' is out of range.")
             .WithSummary("The release feed, oldest first: pass the previous page's 'next' as 'after' to get newer releases.");
         return group;
     }

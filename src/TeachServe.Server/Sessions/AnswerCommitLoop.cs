@@ -31,6 +31,11 @@ public sealed class PendingAnswer : PendingWrite
     public required DateTimeOffset Now { get; init; }
     public required DateTimeOffset? EndedAt { get; init; }
     public required string? EvidenceJson { get; init; }
+    /// <summary>
+    /// Exposure counts this answer adds to, in the same transaction (<see cref="Exposure.TestExposure"/>): the test
+    /// item on the session's first answer to it, and the tested-session row on the session's first test answer.
+    /// </summary>
+    public IReadOnlyList<(string ProjectId, string ItemId)> Exposures { get; init; } = [];
 }
 
 /// <summary>New rows only (a new session with its launch code and start event); fails on a unique-key clash.</summary>
@@ -161,7 +166,7 @@ public sealed partial class AnswerCommitLoop(IServiceScopeFactory scopes, ILogge
     /// (an earlier write of the same session in this very batch, or another node) updates nothing, and then its
     /// rows are not appended: the batch resolves as if the writes had run one after another.
     /// </summary>
-    private bool[] WriteTogether(IReadOnlyList<PendingWrite> batch)
+    private bool[] WriteTogether(List<PendingWrite> batch)
     {
         var sql = _statements ??= new WriterStatements(scopes);
         var written = new bool[batch.Count];
@@ -185,6 +190,10 @@ public sealed partial class AnswerCommitLoop(IServiceScopeFactory scopes, ILogge
     {
         if (write is PendingAnswer answer && !sql.Update(answer, tx)) return false;
         foreach (var row in write.Rows) sql.Insert(row, tx);
+        if (write is PendingAnswer counted)
+        {
+            foreach (var (projectId, itemId) in counted.Exposures) sql.CountExposure(projectId, itemId, tx);
+        }
         return true;
     }
 

@@ -74,6 +74,7 @@ public sealed partial class AnswerWriter(
             PredictedError = outcome.WasTeaching || ended ? run.PredictedError : session.PredictedError,
             TaughtCount = run.TaughtCount, TestAnswered = run.TestAnswered, Now = now,
             EndedAt = ended ? now : null, EvidenceJson = evidenceJson, Rows = rows,
+            Exposures = phaseBefore == SessionPhase.Testing ? Exposures(session.ProjectId, version, run, item) : [],
         }, ct);
         // Another node answered this step first; its stored response decides.
         if (!written) return await ReplayedAsync(session, request, ct);
@@ -108,8 +109,8 @@ public sealed partial class AnswerWriter(
         }
         var project = await HotQueries.ProjectAsync(db, projectRows, session.ProjectId, ct)
             ?? throw new InvalidOperationException($"Session {session.Id} belongs to no project.");
-        if (Outbox.Message(project, session.Id, session.WorkerRef, new SessionEndedWebhook(
-                type, session.ProjectId, session.Id, session.WorkerRef, phase, version.Number, evidence, now)) is not { } message)
+        if (Outbox.Message(project, type, now, new SessionEndedData(
+                session.ProjectId, session.Id, session.WorkerRef, phase, version.Number, evidence)) is not { } message)
             return false;
         rows.Add(message);
         return true;
@@ -133,10 +134,21 @@ public sealed partial class AnswerWriter(
         return data.Response;
     }
 
+    /// <summary>
+    /// What a test answer adds to the exposure counts: its item, unless this session answered it before (a retake
+    /// may reuse items), and the tested-session count on the session's first test answer.
+    /// </summary>
+    private static List<(string, string)> Exposures(string projectId, CompiledVersion version, SessionRun run, int item)
+    {
+        var counts = new List<(string, string)>(2);
+        if (run.Evidence().TestAnswers.Count(a => a.Item == item) == 1) counts.Add((projectId, version.Model.ItemIds[item]));
+        if (run.TestAnswered == 1) counts.Add((projectId, Exposure.TestExposure.TestedSessions));
+        return counts;
+    }
+
     private static AnswerResult Result(CompiledVersion version, SessionRun run, AnswerOutcome outcome, int item)
     {
         var phase = SessionEngine.PhaseName(run.Phase);
-        var evidence = run.IsEnded ? SessionEngine.Evidence(version, run) : null;
         if (outcome.WasTeaching)
         {
             return new AnswerResult
@@ -147,7 +159,6 @@ public sealed partial class AnswerWriter(
                 PredictedError = outcome.PredictedError,
                 Phase = phase,
                 Step = run.Step,
-                Evidence = evidence,
             };
         }
         // Test answers get no truth, no score and no belief figure, only that they were recorded.
@@ -157,7 +168,6 @@ public sealed partial class AnswerWriter(
             Retake = run.Phase == SessionPhase.Teaching ? true : null,
             Phase = phase,
             Step = run.Step,
-            Evidence = evidence,
         };
     }
 

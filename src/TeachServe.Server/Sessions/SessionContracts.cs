@@ -6,10 +6,20 @@ public sealed record StartSessionRequest
 {
     /// <summary>The platform's identifier of the annotator; opaque to TeachServe.</summary>
     public required string WorkerRef { get; init; }
+
+    /// <summary>
+    /// For a worker with an active session: true retires the session's token and hands out a new one (a takeover,
+    /// recorded as a <c>session.resumed</c> event); false or absent returns the session without a token, and the
+    /// annotator's current token keeps working.
+    /// </summary>
+    public bool Resume { get; init; }
 }
 
-/// <summary>The token is shown here only; starting again for an active worker returns the session with a fresh token.</summary>
-public sealed record SessionStarted(string SessionId, string Token, string LaunchUrl, string Phase, int Step, int ModelVersion);
+/// <summary>
+/// The token and launch link are shown here only. Starting again for a worker with an active session returns that
+/// session; they are null then unless the request asked to <see cref="StartSessionRequest.Resume"/>.
+/// </summary>
+public sealed record SessionStarted(string SessionId, string? Token, string? LaunchUrl, string Phase, int Step, int ModelVersion);
 
 public sealed record NextItem(int Step, string Phase, ItemForAnnotator? Item);
 
@@ -25,7 +35,8 @@ public sealed record AnswerRequest
 
 /// <summary>
 /// One shape for all answers; absent members are left out. Teaching: correct, label (the true one),
-/// explanation, predictedError. Testing: recorded only. Ended: evidence.
+/// explanation, predictedError. Testing: recorded only. Ended: the phase only (the annotator holds the session
+/// token, and test counts would tell which test answers were wrong; owners read the evidence elsewhere).
 /// </summary>
 public sealed record AnswerResult
 {
@@ -44,7 +55,13 @@ public sealed record AnswerResult
 
 public sealed record IntervalView(double Low, double High);
 
-/// <summary>What a release (or failure) is based on (DESIGN 2.5 point 4).</summary>
+/// <summary>One test attempt: all its answers, those the test counted (the rest came after its decision), its verdict.</summary>
+public sealed record AttemptView(int Attempt, int Answered, int Errors, int CountedAnswered, int CountedErrors, bool? Passed);
+
+/// <summary>
+/// What a release (or failure) is based on (DESIGN 2.5 point 4), for the owner and the platform, never the
+/// annotator. Test counts and the interval cover every attempt; <c>attempts</c> lists each.
+/// </summary>
 public sealed record EvidenceView(
     string Phase,
     int ItemsTaught,
@@ -57,7 +74,8 @@ public sealed record EvidenceView(
     double Confidence,
     int RetakesUsed,
     int ModelVersion,
-    string Policy);
+    string Policy,
+    IReadOnlyList<AttemptView>? Attempts = null);
 
 public sealed record SessionView
 {

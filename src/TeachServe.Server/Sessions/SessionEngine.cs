@@ -12,9 +12,10 @@ namespace TeachServe.Server.Sessions;
 /// <summary>Gets a session's engine state: from the per-node cache, or by replaying its answer events on its model version.</summary>
 public sealed class SessionEngine(ModelVersionCache versions, SessionStateCache states)
 {
-    public static SessionOptions Options(CompiledVersion version, Session session)
+    /// <param name="testAdministration">The exposure-control K the session started with (see <see cref="Exposure.ExposureCounts"/>).</param>
+    public static SessionOptions Options(CompiledVersion version, Session session, IReadOnlyList<double>? testAdministration)
     {
-        var options = SessionOptions.FromProject(version.Settings, unchecked((ulong)session.Seed));
+        var options = SessionOptions.FromProject(version.Settings, unchecked((ulong)session.Seed)) with { TestAdministration = testAdministration };
         // An experiment arm's overrides were fixed at the start; applying the stored copy keeps replay exact.
         return session.ArmJson is null ? options : Json.Deserialize<Core.Experiments.ArmDefinition>(session.ArmJson).Apply(options);
     }
@@ -38,7 +39,8 @@ public sealed class SessionEngine(ModelVersionCache versions, SessionStateCache 
             .Where(e => e.SessionId == session.Id && e.Type == EventTypes.Answer && e.Step < session.Step)
             .OrderBy(e => e.Step).Select(e => e.DataJson).ToListAsync(ct);
         var labels = data.Select(d => JsonDocument.Parse(d).RootElement.GetProperty("labelIndex").GetInt32());
-        var run = SessionRun.Replay(version.Model, Options(version, session), labels);
+        var administration = await Exposure.ExposureCounts.OfSessionAsync(db, version, session.Id, ct);
+        var run = SessionRun.Replay(version.Model, Options(version, session, administration), labels);
         if (run.Step != session.Step)
             throw new InvalidOperationException($"Session {session.Id} has {run.Step} answer events but is at step {session.Step}.");
         return run;
@@ -69,7 +71,8 @@ public sealed class SessionEngine(ModelVersionCache versions, SessionStateCache 
             e.Confidence,
             e.RetakesUsed,
             version.Number,
-            e.Policy);
+            e.Policy,
+            e.Attempts.Select(a => new AttemptView(a.Attempt + 1, a.Answered, a.Errors, a.CountedAnswered, a.CountedErrors, a.Passed)).ToList());
     }
 
     private static double? Finite(double x) => double.IsFinite(x) ? x : null;

@@ -24,6 +24,7 @@ public sealed class WriterStatements : IDisposable
     private readonly ISqlGenerationHelper _sql;
     private readonly Dictionary<Type, Statement> _inserts = [];
     private readonly Statement _update;
+    private readonly Statement _exposure;
 
     /// <summary>The session-row columns an answer rewrites; the WHERE clause adds the key and the step read.</summary>
     public static readonly string[] SummaryColumns =
@@ -40,6 +41,7 @@ public sealed class WriterStatements : IDisposable
         _connection = _open.Connection;
         _sql = _db.GetService<ISqlGenerationHelper>();
         _update = UpdateSummary();
+        _exposure = CountExposureStatement();
     }
 
     public DbTransaction Begin() => _connection.BeginTransaction();
@@ -54,6 +56,10 @@ public sealed class WriterStatements : IDisposable
 
     /// <summary>Rewrites the session's summary if the row is still at the answer's step; false if it is not (or is gone).</summary>
     public bool Update(PendingAnswer answer, DbTransaction tx) => _update.Run(answer, tx) == 1;
+
+    /// <summary>Adds one session to an item's exposure count (creating the row at 1).</summary>
+    public void CountExposure(string projectId, string itemId, DbTransaction tx) =>
+        _exposure.Run(new Exposure.TestExposure { ProjectId = projectId, ItemId = itemId, Sessions = 1 }, tx);
 
     public void Dispose() => _open.Dispose();
 
@@ -91,6 +97,30 @@ public sealed class WriterStatements : IDisposable
             .Append(Bind.Of(entity.FindProperty(nameof(Session.Step))!, "from", typeof(PendingAnswer), nameof(PendingAnswer.FromStep)))
             .ToList();
         return new Statement(_connection, text, binds);
+    }
+
+    /// <summary>
+    /// An upsert: <c>INSERT … ON CONFLICT (key) DO UPDATE</c> is the same statement on SQLite (3.24 and later) and
+    /// PostgreSQL (9.5 and later), and atomic on both, so nodes counting the same item at once lose no count.
+    /// </summary>
+    private Statement CountExposureStatement()
+    {
+        var entity = _db.Model.FindEntityType(typeof(Exposure.TestExposure))!;
+        var table = StoreObjectIdentifier.Table(entity.GetTableName()!, entity.GetSchema());
+        string Column(string property) => _sql.DelimitIdentifier(entity.FindProperty(property)!.GetColumnName(table)!);
+        var name = _sql.DelimitIdentifier(table.Name, table.Schema);
+        var sessions = Column(nameof(Exposure.TestExposure.Sessions));
+        var text = $"INSERT INTO {name} ({Column(nameof(Exposure.TestExposure.ProjectId))}, {Column(nameof(Exposure.TestExposure.ItemId))}, {sessions}) " +
+                   $"VALUES ({_sql.GenerateParameterName("p0")}, {_sql.GenerateParameterName("p1")}, {_sql.GenerateParameterName("p2")}) " +
+                   $"ON CONFLICT ({Column(nameof(Exposure.TestExposure.ProjectId))}, {Column(nameof(Exposure.TestExposure.ItemId))}) " +
+                   $"DO UPDATE SET {sessions} = {name}.{sessions} + 1";
+        var type = typeof(Exposure.TestExposure);
+        return new Statement(_connection, text,
+        [
+            Bind.Of(entity.FindProperty(nameof(Exposure.TestExposure.ProjectId))!, "p0", type),
+            Bind.Of(entity.FindProperty(nameof(Exposure.TestExposure.ItemId))!, "p1", type),
+            Bind.Of(entity.FindProperty(nameof(Exposure.TestExposure.Sessions))!, "p2", type),
+        ]);
     }
 
     /// <summary>A parameter, the column's type mapping, and how to read its value off the object written.</summary>

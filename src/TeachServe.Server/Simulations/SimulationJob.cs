@@ -29,6 +29,7 @@ public static class SimulationStatuses
     public const string Succeeded = "succeeded";
     public const string Failed = "failed";
     public const string Canceled = "canceled";
+    public static readonly IReadOnlyList<string> All = [Queued, Running, Succeeded, Failed, Canceled];
 
     public static bool IsFinal(string status) => status is Succeeded or Failed or Canceled;
 }

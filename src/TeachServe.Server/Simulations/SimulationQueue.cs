@@ -16,6 +16,7 @@ namespace TeachServe.Server.Simulations;
 /// is kept in memory while a job runs (and written to its row after each policy × variant), cancellation is by a
 /// per-job token, and a job past <see cref="SimulationLimits.MaxRunTime"/> (on the injected clock) ends failed.
 /// </summary>
+[System.Diagnostics.CodeAnalysis.SuppressMessage("Naming", "CA1711", Justification = "A queue of background jobs, which is what the name says; not a collection type.")]
 public sealed partial class SimulationQueue(
     IServiceScopeFactory scopes, ModelVersionCache versions, IOptions<SimulationLimits> limits, TimeProvider time,
     ILogger<SimulationQueue> logger) : BackgroundService
@@ -167,6 +168,8 @@ public sealed partial class SimulationQueue(
                         Learners = request.Learners,
                         Seed = request.Seed,
                         Variant = variant,
+                        Cost = version.Settings.Cost,
+                        Features = LearnerKinds.NeedsFeatures(variant) ? version.Features : null,
                     };
                     results.Add(await Task.Run(() => Simulator.Run(version.Model, options, progress, linked.Token), linked.Token));
                     _progress[id] = (double)results.Count / total;

@@ -1,4 +1,3 @@
-using System.Text.Json;
 using TeachServe.Core.Simulation;
 using TeachServe.Core.Projects;
 
@@ -7,7 +6,7 @@ namespace TeachServe.Server.Simulations;
 /// <summary>Checks a simulation request against the limits; names of variants are kebab-case as in the CLI.</summary>
 public static class SimulationRequests
 {
-    public static string VariantName(LearnerVariant v) => JsonNamingPolicy.KebabCaseLower.ConvertName(v.ToString());
+    public static string VariantName(LearnerVariant v) => LearnerKinds.Name(v);
 
     public static IReadOnlyList<LearnerVariant> Variants(CreateSimulationRequest request) =>
         request.Variants is null

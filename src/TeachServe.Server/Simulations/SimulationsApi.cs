@@ -5,10 +5,12 @@ using Microsoft.EntityFrameworkCore;
 using Microsoft.Extensions.Options;
 using TeachServe.Core.Simulation;
 using TeachServe.Server.Auth;
+using TeachServe.Server.Contract;
 using TeachServe.Server.Experiments;
 using TeachServe.Server.Infrastructure;
 using TeachServe.Server.Persistence;
 using TeachServe.Server.Versions;
+using TeachServe.Plots;
 
 namespace TeachServe.Server.Simulations;
 
@@ -17,23 +19,34 @@ public static class SimulationsApi
     public static RouteGroupBuilder MapSimulations(this IEndpointRouteBuilder api)
     {
         var project = api.MapGroup("/projects/{projectId}/simulations").WithTags("Simulations");
-        project.MapPost("/", CreateSimulation).RequireKey(KeyRole.Owner)
+        project.MapPost("/", CreateSimulation).RequireKey(KeyRole.Owner).WithName("createSimulation")
+            .Problem(StatusCodes.Status422UnprocessableEntity, "The request is not valid (errors lists why), or asks for learners that need item features the project lacks.")
+            .Problem(StatusCodes.Status429TooManyRequests, "The project has as many simulations queued or running as it may, or the rate limit is used up.")
             .WithSummary("Queue a comparison of policies (and learner variants) with simulated learners; poll it for progress.");
 
         var job = api.MapGroup("/simulations/{simulationId}").WithTags("Simulations");
-        job.MapGet("/", GetSimulation).RequireKey(KeyRole.Owner).WithSummary("Status, percent done, and when finished the results.");
-        job.MapPost("/cancel", CancelSimulation).RequireKey(KeyRole.Owner).WithSummary("Stop a queued or running simulation.");
-        job.MapDelete("/", CancelSimulation).RequireKey(KeyRole.Owner).WithSummary("Same as POST .../cancel.");
-        job.MapGet("/results.csv", GetCsv).RequireKey(KeyRole.Owner)
-            .Produces(StatusCodes.Status200OK, contentType: "text/csv").WithSummary("One row per policy × variant.");
-        job.MapGet("/plots/{file}", GetPlot).RequireKey(KeyRole.Owner)
-            .Produces(StatusCodes.Status200OK, contentType: "image/svg+xml").WithSummary("learning-curves.svg or learning-curves.png.");
+        job.MapGet("/", GetSimulation).RequireKey(KeyRole.Owner).WithName("getSimulation")
+            .Produces<SimulationView>().Problem(StatusCodes.Status404NotFound, "No such simulation.").WithSummary("Status, percent done, and when finished the results.");
+        job.MapPost("/cancel", CancelSimulation).RequireKey(KeyRole.Owner).WithName("cancelSimulation")
+            .Produces<SimulationView>().Problem(StatusCodes.Status404NotFound, "No such simulation.")
+            .Problem(StatusCodes.Status409Conflict, "The simulation has already ended.").WithSummary("Stop a queued or running simulation.");
+        job.MapDelete("/", CancelSimulation).RequireKey(KeyRole.Owner).WithName("deleteSimulation")
+            .Produces<SimulationView>().Problem(StatusCodes.Status404NotFound, "No such simulation.")
+            .Problem(StatusCodes.Status409Conflict, "The simulation has already ended.").WithSummary("Same as POST .../cancel.");
+        job.MapGet("/results.csv", GetCsv).RequireKey(KeyRole.Owner).WithName("getSimulationResultsCsv")
+            .Produces(StatusCodes.Status200OK, contentType: "text/csv")
+            .Problem(StatusCodes.Status404NotFound, "No such simulation.")
+            .Problem(StatusCodes.Status409Conflict, "The simulation has no results (queued, running, failed or canceled).").WithSummary("One row per policy × variant.");
+        job.MapGet("/plots/{file}", GetPlot).RequireKey(KeyRole.Owner).WithName("getSimulationPlot")
+            .Produces(StatusCodes.Status200OK, responseType: null, PlotImages.SvgMediaType, PlotImages.PngMediaType)
+            .Problem(StatusCodes.Status404NotFound, "No such simulation, or no such plot name.")
+            .Problem(StatusCodes.Status409Conflict, "The simulation has no results (queued, running, failed or canceled).").WithSummary("learning-curves.svg or learning-curves.png.");
         return job;
     }
 
     public static async Task<Results<Accepted<SimulationView>, ProblemHttpResult>> CreateSimulation(
         string projectId, CreateSimulationRequest body, TeachServeDb db, SimulationQueue queue, IOptions<SimulationLimits> limits,
-        TimeProvider time, CancellationToken ct)
+        ModelVersionCache versions, TimeProvider time, CancellationToken ct)
     {
         var problems = SimulationRequests.Problems(body, limits.Value);
         if (problems.Count > 0)
@@ -43,6 +56,13 @@ public static class SimulationsApi
             .Where(v => v.ProjectId == projectId && v.Status == VersionStatuses.Ready).MaxAsync(v => (int?)v.Number, ct);
         if (number is null || !await db.ModelVersions.AnyAsync(v => v.ProjectId == projectId && v.Number == number && v.Status == VersionStatuses.Ready, ct))
             return Problems.NotFound("No such ready model version.");
+        if (SimulationRequests.Variants(body).Any(LearnerKinds.NeedsFeatures)
+            && (await versions.GetAsync(projectId, number.Value, ct)).Features is null)
+        {
+            const string message = "'variants' lists a learner kind that answers from item features (exemplar, prototype, oblique-rules, decision-lists, partial-attention), and this project's items have none.";
+            return Problems.Unprocessable(message, new Dictionary<string, object?> { ["errors"] = new[] { message } });
+        }
+
         var pending = await db.Set<SimulationJob>().CountAsync(j => j.ProjectId == projectId
             && (j.Status == SimulationStatuses.Queued || j.Status == SimulationStatuses.Running), ct);
         if (pending >= limits.Value.MaxPendingJobsPerProject)
@@ -105,7 +125,7 @@ public static class SimulationsApi
         if (job is null) return Problems.NotFound("No such simulation.");
         if (Results(job) is not { } results) return Problems.Conflict($"The simulation has no results ({job.Status}).");
         var version = await versions.GetAsync(job.ProjectId, job.ModelVersion, ct);
-        return PlotImages.Render(SimulationOutputs.Plot(results, version.Settings.Gate.TargetError), format);
+        return PlotImages.Render(SimulationCurves.Draw(results, version.Settings.Name, version.Settings.Gate.TargetError), format);
     }
 
     private static List<SimulationResult>? Results(SimulationJob job) =>

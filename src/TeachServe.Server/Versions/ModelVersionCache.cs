@@ -1,20 +1,31 @@
-using System.Collections.Concurrent;
 using Microsoft.EntityFrameworkCore;
+using Microsoft.Extensions.Options;
 using TeachServe.Server.Infrastructure;
 using TeachServe.Server.Persistence;
 
 namespace TeachServe.Server.Versions;
 
 /// <summary>
-/// Per-node cache of compiled model versions. Versions are immutable, so an entry never goes stale; a miss
-/// loads the version once (concurrent callers share the work) and checks its fingerprint.
+/// Per-node cache of compiled model versions, holding at most <c>TeachServe:Cache:MaxModelVersions</c> (least
+/// recently used out first: a large version takes tens of megabytes). Versions are immutable, so an entry never
+/// goes stale; a miss loads the version from its stored blob once (concurrent callers share the work) and checks
+/// its fingerprint.
 /// </summary>
-public sealed partial class ModelVersionCache(IServiceScopeFactory scopes, ILogger<ModelVersionCache> logger)
+public sealed partial class ModelVersionCache(
+    IServiceScopeFactory scopes, IOptions<TeachServeOptions> options, ILogger<ModelVersionCache> logger)
 {
-    private readonly ConcurrentDictionary<(string, int), Lazy<Task<CompiledVersion>>> _entries = new();
+    private readonly LruIndex<(string, int), Lazy<Task<CompiledVersion>>> _entries = new(options.Value.Cache.MaxModelVersions);
+
+    /// <summary>Versions held now; never more than <see cref="Capacity"/>.</summary>
+    public int Count => _entries.Count;
+
+    public int Capacity => _entries.Capacity;
+
+    /// <summary>True if this node holds the version (without counting as a use).</summary>
+    public bool Contains(string projectId, int number) => _entries.TryPeek((projectId, number), out _);
 
     public void Put(CompiledVersion version) =>
-        _entries[(version.ProjectId, version.Number)] = new Lazy<Task<CompiledVersion>>(Task.FromResult(version));
+        _entries.Set((version.ProjectId, version.Number), new Lazy<Task<CompiledVersion>>(Task.FromResult(version)));
 
     public async Task<CompiledVersion> GetAsync(string projectId, int number, CancellationToken ct)
     {
@@ -26,7 +37,7 @@ public sealed partial class ModelVersionCache(IServiceScopeFactory scopes, ILogg
         }
         catch (Exception) when (entry.Value.IsFaulted)
         {
-            _entries.TryRemove(new KeyValuePair<(string, int), Lazy<Task<CompiledVersion>>>(key, entry));
+            _entries.Remove(key, entry);
             throw;
         }
     }

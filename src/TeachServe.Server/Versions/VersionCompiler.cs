@@ -15,16 +15,24 @@ public static partial class VersionCompiler
         var settings = Json.Deserialize<ProjectSettings>(record.SettingsJson);
         var items = record.ItemsJson.Split('\n', StringSplitOptions.RemoveEmptyEntries)
             .Select(Json.Deserialize<ItemDefinition>).ToList();
+        if (record.Embeddings is { } block && record.EmbeddingDimension is > 0 and var dimension)
+        {
+            var width = dimension * sizeof(float);
+            if (block.Length != items.Count * width)
+                throw new InvalidDataException($"Version {record.Number} of {record.ProjectId} stores {block.Length} bytes of embeddings for {items.Count} items of {dimension} numbers.");
+            for (var i = 0; i < items.Count; i++)
+                items[i] = items[i] with { Embedding = Items.TextEmbeddings.FromBytes(block.AsSpan(i * width, width)) };
+        }
         return (settings, items);
     }
 
     public static string WriteItems(IEnumerable<ItemDefinition> items) =>
         string.Join('\n', items.Select(Json.Serialize));
 
-    public static CompiledVersion Build(ModelVersionRecord record, CancellationToken ct)
+    public static CompiledVersion Build(ModelVersionRecord record, CancellationToken ct, IProgress<CompileProgress>? progress = null)
     {
         var (settings, items) = ReadSnapshot(record);
-        var model = ModelCompiler.Compile(new ProjectDefinition(settings, items), ct);
+        var model = ModelCompiler.Compile(new ProjectDefinition(settings, items) { EmbeddingModel = record.EmbeddingModel }, progress, ct);
         return new CompiledVersion(record.ProjectId, record.Number, settings, model, items);
     }
 
@@ -38,12 +46,12 @@ public static partial class VersionCompiler
     }
 
     /// <summary>First compile of a version row: fills in status, fingerprint and summary (the caller saves).</summary>
-    public static CompiledVersion? CompileInto(ModelVersionRecord record, TimeProvider time, ILogger logger, CancellationToken ct)
+    public static CompiledVersion? CompileInto(ModelVersionRecord record, TimeProvider time, ILogger logger, CancellationToken ct, IProgress<CompileProgress>? progress = null)
     {
         var watch = Stopwatch.StartNew();
         try
         {
-            var compiled = Build(record, ct);
+            var compiled = Build(record, ct, progress);
             record.Status = VersionStatuses.Ready;
             using (var blob = new MemoryStream())
             {
@@ -68,11 +76,12 @@ public static partial class VersionCompiler
 
     /// <summary>Compiles a row that is still <c>compiling</c> (background job, or resumed after a restart) and saves it.</summary>
     public static async Task<CompiledVersion?> CompilePendingAsync(
-        TeachServeDb db, string projectId, int number, ModelVersionCache cache, TimeProvider time, ILogger logger, CancellationToken ct)
+        TeachServeDb db, string projectId, int number, ModelVersionCache cache, TimeProvider time, ILogger logger, CancellationToken ct,
+        IProgress<CompileProgress>? progress = null)
     {
         var record = await db.ModelVersions.FirstOrDefaultAsync(v => v.ProjectId == projectId && v.Number == number, ct);
         if (record is not { Status: VersionStatuses.Compiling }) return null;
-        var compiled = await Task.Run(() => CompileInto(record, time, logger, ct), ct);
+        var compiled = await Task.Run(() => CompileInto(record, time, logger, ct, progress), ct);
         await db.SaveChangesAsync(ct);
         if (compiled is not null) cache.Put(compiled);
         return compiled;

@@ -1,40 +1,44 @@
 using TeachServe.Server.Infrastructure;
-using TeachServe.Server.Persistence;
 using TeachServe.Server.Projects;
 
 namespace TeachServe.Server.Webhooks;
 
-/// <summary>The payload the platform receives when a session ends.</summary>
-public sealed record SessionEndedWebhook(
-    string Type,
+/// <summary>The <c>data</c> of a session's end event: what the platform needs to act on the decision.</summary>
+public sealed record SessionEndedData(
     string ProjectId,
     string SessionId,
     string WorkerRef,
     string Phase,
     int ModelVersion,
-    object? Evidence,
-    DateTimeOffset OccurredAt);
+    object? Evidence);
 
 public static class Outbox
 {
-    /// <summary>Adds a delivery to the caller's unit of work, so it commits (or not) with its cause.</summary>
-    public static void Enqueue(TeachServeDb db, Project project, string sessionId, string workerRef, SessionEndedWebhook payload)
-    {
-        if (Message(project, sessionId, workerRef, payload) is { } message) db.Outbox.Add(message);
-    }
+    /// <summary>128 random bits: unguessable, and says nothing about how many webhooks the server has sent.</summary>
+    public static string NewDeliveryId() => "dlv_" + Ids.Base32(System.Security.Cryptography.RandomNumberGenerator.GetBytes(16));
 
-    /// <summary>The delivery row for a project with a webhook (null without one), for a unit of work built elsewhere.</summary>
-    public static OutboxMessage? Message(Project project, string sessionId, string workerRef, SessionEndedWebhook payload) =>
-        project.WebhookUrl is null ? null : new OutboxMessage
+    /// <summary>
+    /// The delivery row for a project with a webhook (null without one), to commit with its cause. The body is
+    /// serialised once here and stored, so every retry sends the same bytes under the same id.
+    /// </summary>
+    public static OutboxMessage? Message(Project project, string eventType, DateTimeOffset occurredAt, SessionEndedData data)
+    {
+        if (project.WebhookUrl is null) return null;
+        var id = NewDeliveryId();
+        var cloudEvent = new CloudEvent<SessionEndedData>(
+            id, WebhookEvents.SourceOf(project.Id), WebhookEvents.TypeOf(eventType), data.SessionId, occurredAt, data);
+        return new OutboxMessage
         {
             ProjectId = project.Id,
-            SessionId = sessionId,
-            WorkerRef = workerRef,
-            EventType = payload.Type,
+            DeliveryId = id,
+            SessionId = data.SessionId,
+            WorkerRef = data.WorkerRef,
+            EventType = eventType,
             Url = project.WebhookUrl,
-            PayloadJson = Json.Serialize(payload),
+            PayloadJson = Json.Serialize(cloudEvent),
             State = OutboxStates.Pending,
-            CreatedAt = payload.OccurredAt,
-            NextAttemptAt = payload.OccurredAt,
+            CreatedAt = occurredAt,
+            NextAttemptAt = occurredAt,
         };
+    }
 }

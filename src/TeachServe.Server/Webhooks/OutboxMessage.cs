@@ -4,6 +4,11 @@ namespace TeachServe.Server.Webhooks;
 public sealed class OutboxMessage
 {
     public long Id { get; set; }
+    /// <summary>
+    /// The id receivers see (<c>webhook-id</c> and the CloudEvent's <c>id</c>), random per message and the same on every retry; null on
+    /// rows written before it existed, which keep their row number so a retry matches what the receiver saw.
+    /// </summary>
+    public string? DeliveryId { get; set; }
     public required string ProjectId { get; set; }
     public string? SessionId { get; set; }
     public string? WorkerRef { get; set; }

@@ -13,6 +13,7 @@ public sealed class OutboxMessageConfiguration : IEntityTypeConfiguration<Outbox
         builder.Property(m => m.ProjectId).HasMaxLength(40);
         builder.Property(m => m.SessionId).HasMaxLength(40);
         builder.Property(m => m.WorkerRef).HasMaxLength(Sessions.SessionLimits.WorkerRefLength);
+        builder.Property(m => m.DeliveryId).HasMaxLength(40);
         builder.Property(m => m.EventType).HasMaxLength(32);
         builder.Property(m => m.Url).HasMaxLength(ProjectLimits.UrlLength);
         builder.Property(m => m.State).HasMaxLength(16);

@@ -5,35 +5,26 @@ using System.Text;
 namespace TeachServe.Server.Webhooks;
 
 /// <summary>
-/// <c>TeachServe-Signature: t=&lt;unix seconds&gt;,v1=&lt;hex HMAC-SHA256(secret, "&lt;t&gt;.&lt;body&gt;")&gt;</c>.
-/// Signing the timestamp with the body lets receivers reject replays of old deliveries.
+/// Signs a delivery as the Standard Webhooks specification says (standard-webhooks/standard-webhooks,
+/// spec/standard-webhooks.md, "Signature scheme" and "Webhook headers"): HMAC-SHA256 with the secret's key over
+/// <c>"{webhook-id}.{webhook-timestamp}.{body}"</c>, sent as <c>webhook-signature: v1,&lt;base64&gt;</c>. The id is
+/// the message's, the same on every retry; the timestamp is the attempt's, so a receiver that refuses stale
+/// timestamps refuses replays of an old attempt, while the id lets it drop a message it has already processed.
 /// </summary>
+/// <remarks>
+/// Verifying is the receiver's job and is left out of the server on purpose; the tests verify with their own
+/// implementation written from the specification (<c>StandardWebhooksVerifier</c> in the server tests).
+/// </remarks>
 public static class WebhookSignature
 {
-    public const string Header = "TeachServe-Signature";
-    public const string DeliveryHeader = "TeachServe-Delivery";
-    public const string EventHeader = "TeachServe-Event";
+    public const string IdHeader = "webhook-id";
+    public const string TimestampHeader = "webhook-timestamp";
+    public const string SignatureHeader = "webhook-signature";
 
-    public static string Create(string secret, long timestamp, string body)
+    /// <summary>The <c>webhook-signature</c> value for one key: <c>v1,</c> and the base64 of the MAC.</summary>
+    public static string Sign(byte[] key, string id, long timestamp, string body)
     {
-        var t = timestamp.ToString(CultureInfo.InvariantCulture);
-        var mac = HMACSHA256.HashData(Encoding.UTF8.GetBytes(secret), Encoding.UTF8.GetBytes($"{t}.{body}"));
-        return $"t={t},v1={Convert.ToHexStringLower(mac)}";
-    }
-
-    /// <summary>What a receiver does: recompute, compare in constant time, and refuse stale timestamps.</summary>
-    public static bool Verify(string header, string secret, string body, DateTimeOffset now, TimeSpan tolerance)
-    {
-        long? t = null;
-        string? v1 = null;
-        foreach (var part in header.Split(','))
-        {
-            if (part.StartsWith("t=", StringComparison.Ordinal) && long.TryParse(part[2..], CultureInfo.InvariantCulture, out var ts)) t = ts;
-            else if (part.StartsWith("v1=", StringComparison.Ordinal)) v1 = part[3..];
-        }
-        if (t is null || v1 is null) return false;
-        if (Math.Abs(now.ToUnixTimeSeconds() - t.Value) > tolerance.TotalSeconds) return false;
-        var expected = Create(secret, t.Value, body);
-        return CryptographicOperations.FixedTimeEquals(Encoding.ASCII.GetBytes(expected), Encoding.ASCII.GetBytes($"t={t},v1={v1}"));
+        var mac = HMACSHA256.HashData(key, Encoding.UTF8.GetBytes($"{id}.{timestamp.ToString(CultureInfo.InvariantCulture)}.{body}"));
+        return "v1," + Convert.ToBase64String(mac);
     }
 }

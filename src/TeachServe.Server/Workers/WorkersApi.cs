@@ -1,8 +1,7 @@
-using System.Security.Cryptography;
-using System.Text;
 using Microsoft.AspNetCore.Http.HttpResults;
 using Microsoft.EntityFrameworkCore;
 using TeachServe.Server.Auth;
+using TeachServe.Server.Contract;
 using TeachServe.Server.Events;
 using TeachServe.Server.Infrastructure;
 using TeachServe.Server.Persistence;
@@ -23,21 +22,24 @@ public static class WorkersApi
     public static RouteGroupBuilder MapWorkers(this IEndpointRouteBuilder api)
     {
         var group = api.MapGroup("/projects/{projectId}").WithTags("Privacy");
-        group.MapDelete("/workers/{workerRef}", EraseWorker).RequireKey(KeyRole.Owner)
+        group.MapDelete("/workers/{workerRef}", EraseWorker).RequireKey(KeyRole.Owner).WithName("eraseWorker")
+            .Problem(StatusCodes.Status400BadRequest, "'workerRef' is longer than any stored one.")
             .WithSummary("Erase one worker's sessions, events, releases and webhooks (privacy request); records an audit entry.");
-        group.MapGet("/audit", ListAudit).RequireKey(KeyRole.Owner)
+        group.MapGet("/audit", ListAudit).RequireKey(KeyRole.Owner).WithName("listAudit")
+            .Problem(StatusCodes.Status400BadRequest, "'cursor' or 'limit' is not valid.")
             .WithSummary("Audit entries of the project, oldest first.");
         return group;
     }
 
     public static async Task<Results<Ok<WorkerErased>, ProblemHttpResult>> EraseWorker(
-        string projectId, string workerRef, TeachServeDb db, TimeProvider time, SessionStateCache cache, CancellationToken ct)
+        string projectId, string workerRef, TeachServeDb db, TimeProvider time, SessionStateCache cache, AuditSubjects subjects,
+        ILoggerFactory logs, CancellationToken ct)
     {
         if (workerRef.Length > SessionLimits.WorkerRefLength)
             return Problems.BadRequest($"A workerRef has at most {SessionLimits.WorkerRefLength} characters.");
         if (!await db.Projects.AnyAsync(p => p.Id == projectId, ct)) return Problems.NotFound("No such project.");
 
-        var subject = SubjectHash(projectId, workerRef);
+        var subject = subjects.Of(projectId, workerRef);
         var now = time.GetUtcNow();
         await using var tx = await db.Database.BeginTransactionAsync(ct);
         var sessionIds = await db.Sessions.Where(s => s.ProjectId == projectId && s.WorkerRef == workerRef)
@@ -59,6 +61,7 @@ public static class WorkersApi
         await db.SaveChangesAsync(ct);
         await tx.CommitAsync(ct);
         foreach (var id in sessionIds) cache.Evict(id);
+        await ErasureScrub.RunAsync(db, logs.CreateLogger(typeof(ErasureScrub)), ct);
 
         return TypedResults.Ok(new WorkerErased(audit.Id, subject, sessions, events, releases, webhooks));
     }
@@ -76,8 +79,4 @@ public static class WorkersApi
             .ToList();
         return TypedResults.Ok(new AuditPage(page, rows.Count > take ? Cursor.Encode(page[^1].Id.ToString(System.Globalization.CultureInfo.InvariantCulture)) : null));
     }
-
-    /// <summary>Per-project hash, so the same worker cannot be linked across projects through the audit log.</summary>
-    public static string SubjectHash(string projectId, string workerRef) =>
-        Convert.ToHexStringLower(SHA256.HashData(Encoding.UTF8.GetBytes($"{projectId}\n{workerRef}")));
 }

@@ -8,15 +8,9 @@ namespace TeachServe.Core.Tests.Cli;
 
 public class SimulateCommandTests
 {
-    private static (int Code, string Output, string Error) Run(params string[] args)
-    {
-        using var output = new StringWriter();
-        using var error = new StringWriter();
-        var code = Program.Run(args, output, error);
-        return (code, output.ToString(), error.ToString());
-    }
+    private static (int Code, string Output, string Error) Run(params string[] args) => CliRun.Run(args);
 
-    private static string Seed(string name) => Path.Combine(SeedModels.RepositoryRoot(), "seed-projects", name);
+    private static string Seed(string name) => CliRun.Seed(name);
 
     [Fact]
     public void Compile_prints_the_version_summary()
@@ -92,5 +86,13 @@ public class SimulateCommandTests
         var (code, _, error) = Run("compile", dir.Path);
         Assert.Equal(1, code);
         Assert.Contains("labels", error, StringComparison.Ordinal);
+    }
+
+    [Theory]
+    [InlineData("seed-projects/ticket-triage", "compare-ticket-triage")]
+    [InlineData("seed-projects/ticket-triage/", "compare-ticket-triage")]
+    public void Compare_without_out_writes_to_a_folder_of_its_own_named_after_the_project(string project, string folder)
+    {
+        Assert.Equal(folder, SimulateCommand.DefaultCompareFolder(project));
     }
 }

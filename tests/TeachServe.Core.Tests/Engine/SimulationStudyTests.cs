@@ -52,6 +52,7 @@ public class SimulationStudyTests(SeedModels seeds) : IClassFixture<SeedModels>
             Learners = learners,
             Seed = seed,
             Variant = variant,
+            Features = LearnerKinds.NeedsFeatures(variant) ? ItemFeatures.From(model, project.Items) : null,
         });
 
     [Theory]
@@ -96,7 +97,8 @@ public class SimulationStudyTests(SeedModels seeds) : IClassFixture<SeedModels>
             released += result.UnqualifiedReleased;
         }
 
-        // Non-learners (stuck, random answers) guarantee the population of unqualified learners is not empty.
+        // Every learner kind, those unlike the model included. Non-learners (stuck, random answers) guarantee the
+        // population of unqualified learners is not empty.
         Assert.True(unqualified >= 150, $"{name}: {unqualified} unqualified");
         Assert.True(released <= 0.05 * unqualified, $"{name}: {released} of {unqualified} unqualified learners released");
     }

@@ -29,6 +29,21 @@ public class ExperimentReportTests
     }
 
     [Fact]
+    public void Items_and_cost_per_release_count_every_ended_annotator_of_the_arm()
+    {
+        // Arm 1 by hand: ended b1–b5 (b6 has not ended); items 28 + 29 + 32 + 55 + 27 = 171 (teaching + test);
+        // test items 105, teaching 66; 4 releases. Priced 0.1 per teaching item, 0.2 per test item, 0.6 per minute at
+        // 30 s per item: 6.6 + 21 + 171 × 0.5 × 0.6 = 78.9, per release 19.725 (derived).
+        var cost = new TeachServe.Core.Projects.CostSettings { PerTeachingItem = 0.1, PerTestItem = 0.2, PerMinute = 0.6, SecondsPerItem = 30 };
+        var report = ExperimentReport.Compute(Definition(3), Mixed(), new ExperimentReportOptions { Cost = cost });
+        var arm = report.Arms[1];
+        AssertNear.Absolute(171.0 / 4, arm.ItemsPerRelease, 1e-12);
+        AssertNear.Absolute(78.9 / 4, arm.CostPerRelease, 1e-12);
+        var none = ExperimentReport.Compute(Definition(2), [.. Finished(0, 3, 0, "x"), .. Finished(1, 2, 1, "y")]);
+        Assert.True(double.IsNaN(none.Arms[0].CostPerRelease));
+    }
+
+    [Fact]
     public void Arm_summaries_match_a_direct_recomputation()
     {
         var outcomes = Mixed();

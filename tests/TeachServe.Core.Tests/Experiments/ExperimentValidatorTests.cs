@@ -52,9 +52,20 @@ public class ExperimentValidatorTests
     [InlineData(-1)]
     [InlineData(double.NaN)]
     [InlineData(double.PositiveInfinity)]
-    public void Weights_must_be_positive_and_finite(double weight)
+    [InlineData(1e6 * (1 + 1e-12))]
+    [InlineData(1e308)]
+    public void Weights_must_be_positive_finite_and_at_most_a_million(double weight)
     {
         AssertOnly(ExperimentValidator.Validate(ExperimentSamples.Definition(3) with { Weights = [1, 1, weight] }), "weights[2]");
+    }
+
+    [Fact]
+    public void Weights_up_to_a_million_are_accepted_and_the_largest_sum_stays_finite()
+    {
+        Assert.Empty(ExperimentValidator.Validate(ExperimentSamples.Definition(3) with { Weights = [1e6, 1e-9, 1e6] }));
+        // Two weights of 1e308 each are finite but sum to infinity: each is refused by name.
+        var problems = ExperimentValidator.Validate(ExperimentSamples.Definition(2) with { Weights = [1e308, 1e308] });
+        Assert.Equal(["weights[0]", "weights[1]"], problems.Select(p => p.Field));
     }
 
     [Fact]
@@ -68,9 +79,20 @@ public class ExperimentValidatorTests
     [InlineData(1)]
     [InlineData(-0.1)]
     [InlineData(double.NaN)]
-    public void Minimum_detectable_effect_must_be_in_the_open_unit_interval(double mde)
+    [InlineData(1e-300)]
+    [InlineData(0.000999)]
+    [InlineData(double.PositiveInfinity)]
+    public void Minimum_detectable_effect_must_be_at_least_a_thousandth_and_below_one(double mde)
     {
         AssertOnly(ExperimentValidator.Validate(ExperimentSamples.Definition() with { MinimumDetectableEffect = mde }), "minimumDetectableEffect");
+    }
+
+    [Theory]
+    [InlineData(0.001)]
+    [InlineData(0.999)]
+    public void Minimum_detectable_effect_bounds_are_accepted(double mde)
+    {
+        Assert.Empty(ExperimentValidator.Validate(ExperimentSamples.Definition() with { MinimumDetectableEffect = mde }));
     }
 
     [Fact]

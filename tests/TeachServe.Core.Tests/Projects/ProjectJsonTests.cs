@@ -14,7 +14,7 @@ public class ProjectJsonTests
         Assert.Empty(problems);
         Assert.NotNull(settings);
         Assert.Equal(["left", "right"], settings.Labels);
-        Assert.Equal(10, settings.Gate.Test.MaxItems);
+        Assert.Equal(40, settings.Gate.Test.MaxItems);
         Assert.Equal(new LearnerSettings(), settings.Learner);
         Assert.Equal(PolicyNames.Adaptive, settings.Policy);
     }
@@ -76,7 +76,7 @@ public class ProjectJsonTests
     [Fact]
     public void A_fraction_where_a_count_belongs_is_reported()
     {
-        var json = ProjectSamples.SettingsJson.Replace("\"maxItems\": 10", "\"maxItems\": 10.5", StringComparison.Ordinal);
+        var json = ProjectSamples.SettingsJson.Replace("\"maxItems\": 40", "\"maxItems\": 40.5", StringComparison.Ordinal);
         var (_, problems) = ProjectJson.ReadSettings(json, File);
         ProjectValidatorTests.AssertOnly(problems, File, 7, "gate.test.maxItems");
     }

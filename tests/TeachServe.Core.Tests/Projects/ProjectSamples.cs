@@ -42,7 +42,7 @@ internal static class ProjectSamples
           "family": { "kind": "linear" },
           "gate": {
             "targetError": 0.1,
-            "test": { "maxItems": 10 }
+            "test": { "maxItems": 40 }
           }
         }
         """;

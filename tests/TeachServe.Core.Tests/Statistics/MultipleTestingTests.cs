@@ -71,9 +71,9 @@ public class MultipleTestingTests
         Assert.Throws<ArgumentOutOfRangeException>(() => MultipleTesting.Holm([-0.1]));
     }
 
-    private static double[] ByClosure(IReadOnlyList<double> p)
+    private static double[] ByClosure(double[] p)
     {
-        var m = p.Count;
+        var m = p.Length;
         var adjusted = new double[m];
         for (var subset = 1; subset < 1 << m; subset++)
         {

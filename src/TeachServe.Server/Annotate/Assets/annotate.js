@@ -123,7 +123,6 @@ function announce(text) {
   requestAnimationFrame(() => { live.textContent = text; });
 }
 
-const percent = (x) => `${(x * 100).toFixed(x < 0.1 ? 1 : 0)} %`;
 
 function renderProgress() {
   const s = state;
@@ -131,15 +130,15 @@ function renderProgress() {
   $("project-name").textContent = s.projectName;
   let fraction;
   if (s.phase === "teaching") {
-    $("progress-phase").textContent = `Teaching · item ${s.itemsTaught + 1}`;
-    const start = s.startingError ?? s.predictedError ?? 1;
-    const now = s.predictedError ?? start;
-    fraction = start > s.targetError ? (start - now) / (start - s.targetError) : 1;
+    // Plain progress: items done of the teaching budget. The model's predicted error is not shown here: it can move
+    // against the annotator's own results (it may fall after a wrong answer), which reads as nonsense.
+    $("progress-phase").textContent = `Teaching · item ${s.itemsTaught + 1} of at most ${s.maxTeachingItems}`;
+    fraction = s.itemsTaught / Math.max(1, s.maxTeachingItems);
     $("progress-detail").textContent =
-      `Predicted error ${percent(now)}, target ${percent(s.targetError)} or less; at most ${s.maxTeachingItems} teaching items.`;
+      "Practice with feedback. It ends as soon as your answers show you have the rule, then comes a short check without feedback.";
   } else if (s.phase === "testing") {
-    $("progress-phase").textContent = `Check · item ${s.testAnswered + 1}`;
-    fraction = s.testAnswered / Math.max(1, s.maxTestItems);
+    $("progress-phase").textContent = `${checkName(s)} · item ${s.attemptAnswered + 1}`;
+    fraction = s.attemptAnswered / Math.max(1, s.maxTestItems);
     $("progress-detail").textContent = `At most ${s.maxTestItems} items; the check may end sooner. No feedback during the check.`;
   } else {
     $("progress-phase").textContent = s.phase === "released" ? "Released" : "Finished";
@@ -184,12 +183,14 @@ function renderItemContent(item) {
 function renderButtons(labels, enabled) {
   const box = $("label-buttons");
   box.replaceChildren();
+  // Number keys only where a keyboard is likely (a fine pointer that hovers); on touch screens, say "tap".
+  const keyboard = window.matchMedia("(hover: hover) and (pointer: fine)").matches;
   labels.forEach((label, i) => {
     const button = document.createElement("button");
     button.type = "button";
     button.className = "label";
     button.dataset.label = label;
-    if (i < 9) {
+    if (i < 9 && keyboard) {
       const kbd = document.createElement("kbd");
       kbd.textContent = String(i + 1);
       kbd.setAttribute("aria-hidden", "true");
@@ -204,7 +205,7 @@ function renderButtons(labels, enabled) {
     box.append(button);
   });
   const shortcut = labels.length > 1 ? `Keys 1–${Math.min(9, labels.length)} choose a label.` : "Key 1 chooses the label.";
-  $("labels-hint").textContent = shortcut;
+  $("labels-hint").textContent = keyboard ? shortcut : (labels.length > 1 ? "Tap the label that fits." : "Tap the label.");
 }
 
 function renderItem() {
@@ -213,7 +214,7 @@ function renderItem() {
   renderItemContent(s.item);
   $("item-heading").textContent = s.phase === "teaching"
     ? `Item ${s.itemsTaught + 1}: which label fits?`
-    : `Check item ${s.testAnswered + 1}: which label fits?`;
+    : `${checkName(s)}, item ${s.attemptAnswered + 1}: which label fits?`;
   $("labels-legend").textContent = "Labels";
   renderButtons(s.labels, true);
   $("labels-hint").hidden = false;
@@ -266,10 +267,17 @@ function renderNotice(heading, paragraphs, buttonText, then) {
   announce(`${heading}. ${paragraphs.join(" ")}`);
 }
 
+/** "Check" for the first, "Second check" and so on after a retake; items are numbered from 1 in each. */
+function checkName(s) {
+  const ordinals = ["", "", "Second", "Third", "Fourth", "Fifth"];
+  if (!(s.attempt > 1)) return "Check";
+  return ordinals[s.attempt] ? `${ordinals[s.attempt]} check` : `Check ${s.attempt}`;
+}
+
 function renderTestingIntro() {
   renderProgress();
   renderNotice(
-    "Teaching is done. Now a short check.",
+    state.attempt > 1 ? `Teaching is done. Now the ${checkName(state).toLowerCase()}.` : "Teaching is done. Now a short check.",
     [
       "From here on there is no feedback: answer each item as well as you can.",
       `The check has at most ${state.maxTestItems} items and may end sooner, as soon as the result is clear.`,
@@ -338,7 +346,7 @@ async function refresh() {
   if (feedback && feedback.response.step === state.step) return renderFeedback(feedback);
   if (state.end) return renderEnd();
   if (store.get("retake") === state.step && state.phase === "teaching") return renderRetake();
-  if (state.phase === "testing" && state.testAnswered === 0 && store.get("intro") !== state.step) return renderTestingIntro();
+  if (state.phase === "testing" && state.attemptAnswered === 0 && store.get("intro") !== state.step) return renderTestingIntro();
   renderItem();
 }
 

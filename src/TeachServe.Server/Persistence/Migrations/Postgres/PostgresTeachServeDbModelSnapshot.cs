@@ -163,6 +163,24 @@ namespace TeachServe.Server.Persistence.Migrations.Postgres
                     b.ToTable("Experiments", (string)null);
                 });
 
+            modelBuilder.Entity("TeachServe.Server.Exposure.TestExposure", b =>
+                {
+                    b.Property<string>("ProjectId")
+                        .HasMaxLength(40)
+                        .HasColumnType("character varying(40)");
+
+                    b.Property<string>("ItemId")
+                        .HasMaxLength(200)
+                        .HasColumnType("character varying(200)");
+
+                    b.Property<int>("Sessions")
+                        .HasColumnType("integer");
+
+                    b.HasKey("ProjectId", "ItemId");
+
+                    b.ToTable("TestExposures", (string)null);
+                });
+
             modelBuilder.Entity("TeachServe.Server.Fits.LearnerFitRecord", b =>
                 {
                     b.Property<string>("Id")
@@ -201,6 +219,13 @@ namespace TeachServe.Server.Persistence.Migrations.Postgres
                         .HasColumnType("character varying(40)");
 
                     b.Property<string>("ItemId")
+                        .HasMaxLength(200)
+                        .HasColumnType("character varying(200)");
+
+                    b.Property<byte[]>("Embedding")
+                        .HasColumnType("bytea");
+
+                    b.Property<string>("EmbeddingModel")
                         .HasMaxLength(200)
                         .HasColumnType("character varying(200)");
 
@@ -274,8 +299,8 @@ namespace TeachServe.Server.Persistence.Migrations.Postgres
                         .HasColumnType("timestamp with time zone");
 
                     b.Property<string>("WebhookSecret")
-                        .HasMaxLength(200)
-                        .HasColumnType("character varying(200)");
+                        .HasMaxLength(1000)
+                        .HasColumnType("character varying(1000)");
 
                     b.Property<string>("WebhookUrl")
                         .HasMaxLength(2000)
@@ -497,6 +522,15 @@ namespace TeachServe.Server.Persistence.Migrations.Postgres
                     b.Property<DateTimeOffset>("CreatedAt")
                         .HasColumnType("timestamp with time zone");
 
+                    b.Property<int?>("EmbeddingDimension")
+                        .HasColumnType("integer");
+
+                    b.Property<string>("EmbeddingModel")
+                        .HasColumnType("text");
+
+                    b.Property<byte[]>("Embeddings")
+                        .HasColumnType("bytea");
+
                     b.Property<string>("Error")
                         .HasMaxLength(4000)
                         .HasColumnType("character varying(4000)");
@@ -514,6 +548,10 @@ namespace TeachServe.Server.Persistence.Migrations.Postgres
                     b.Property<string>("SettingsJson")
                         .IsRequired()
                         .HasColumnType("text");
+
+                    b.Property<string>("SnapshotHash")
+                        .HasMaxLength(64)
+                        .HasColumnType("character varying(64)");
 
                     b.Property<string>("Status")
                         .IsRequired()
@@ -533,6 +571,13 @@ namespace TeachServe.Server.Persistence.Migrations.Postgres
                         .HasColumnType("integer");
 
                     b.HasKey("ProjectId", "Number");
+
+                    b.HasIndex("ProjectId")
+                        .IsUnique()
+                        .HasDatabaseName("IX_ModelVersions_OneCompilingPerProject")
+                        .HasFilter("\"Status\" = 'compiling'");
+
+                    b.HasIndex("ProjectId", "SnapshotHash");
 
                     b.HasIndex("ProjectId", "Status", "Number");
 
@@ -555,6 +600,10 @@ namespace TeachServe.Server.Persistence.Migrations.Postgres
 
                     b.Property<DateTimeOffset?>("DeliveredAt")
                         .HasColumnType("timestamp with time zone");
+
+                    b.Property<string>("DeliveryId")
+                        .HasMaxLength(40)
+                        .HasColumnType("character varying(40)");
 
                     b.Property<string>("EventType")
                         .IsRequired()
@@ -660,6 +709,15 @@ namespace TeachServe.Server.Persistence.Migrations.Postgres
                 });
 
             modelBuilder.Entity("TeachServe.Server.Experiments.Experiment", b =>
+                {
+                    b.HasOne("TeachServe.Server.Projects.Project", null)
+                        .WithMany()
+                        .HasForeignKey("ProjectId")
+                        .OnDelete(DeleteBehavior.Cascade)
+                        .IsRequired();
+                });
+
+            modelBuilder.Entity("TeachServe.Server.Exposure.TestExposure", b =>
                 {
                     b.HasOne("TeachServe.Server.Projects.Project", null)
                         .WithMany()

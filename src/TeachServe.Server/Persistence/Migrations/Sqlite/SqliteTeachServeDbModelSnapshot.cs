@@ -153,6 +153,24 @@ namespace TeachServe.Server.Persistence.Migrations.Sqlite
                     b.ToTable("Experiments", (string)null);
                 });
 
+            modelBuilder.Entity("TeachServe.Server.Exposure.TestExposure", b =>
+                {
+                    b.Property<string>("ProjectId")
+                        .HasMaxLength(40)
+                        .HasColumnType("TEXT");
+
+                    b.Property<string>("ItemId")
+                        .HasMaxLength(200)
+                        .HasColumnType("TEXT");
+
+                    b.Property<int>("Sessions")
+                        .HasColumnType("INTEGER");
+
+                    b.HasKey("ProjectId", "ItemId");
+
+                    b.ToTable("TestExposures", (string)null);
+                });
+
             modelBuilder.Entity("TeachServe.Server.Fits.LearnerFitRecord", b =>
                 {
                     b.Property<string>("Id")
@@ -191,6 +209,13 @@ namespace TeachServe.Server.Persistence.Migrations.Sqlite
                         .HasColumnType("TEXT");
 
                     b.Property<string>("ItemId")
+                        .HasMaxLength(200)
+                        .HasColumnType("TEXT");
+
+                    b.Property<byte[]>("Embedding")
+                        .HasColumnType("BLOB");
+
+                    b.Property<string>("EmbeddingModel")
                         .HasMaxLength(200)
                         .HasColumnType("TEXT");
 
@@ -264,7 +289,7 @@ namespace TeachServe.Server.Persistence.Migrations.Sqlite
                         .HasColumnType("INTEGER");
 
                     b.Property<string>("WebhookSecret")
-                        .HasMaxLength(200)
+                        .HasMaxLength(1000)
                         .HasColumnType("TEXT");
 
                     b.Property<string>("WebhookUrl")
@@ -485,6 +510,15 @@ namespace TeachServe.Server.Persistence.Migrations.Sqlite
                     b.Property<long>("CreatedAt")
                         .HasColumnType("INTEGER");
 
+                    b.Property<int?>("EmbeddingDimension")
+                        .HasColumnType("INTEGER");
+
+                    b.Property<string>("EmbeddingModel")
+                        .HasColumnType("TEXT");
+
+                    b.Property<byte[]>("Embeddings")
+                        .HasColumnType("BLOB");
+
                     b.Property<string>("Error")
                         .HasMaxLength(4000)
                         .HasColumnType("TEXT");
@@ -501,6 +535,10 @@ namespace TeachServe.Server.Persistence.Migrations.Sqlite
 
                     b.Property<string>("SettingsJson")
                         .IsRequired()
+                        .HasColumnType("TEXT");
+
+                    b.Property<string>("SnapshotHash")
+                        .HasMaxLength(64)
                         .HasColumnType("TEXT");
 
                     b.Property<string>("Status")
@@ -522,6 +560,13 @@ namespace TeachServe.Server.Persistence.Migrations.Sqlite
 
                     b.HasKey("ProjectId", "Number");
 
+                    b.HasIndex("ProjectId")
+                        .IsUnique()
+                        .HasDatabaseName("IX_ModelVersions_OneCompilingPerProject")
+                        .HasFilter("\"Status\" = 'compiling'");
+
+                    b.HasIndex("ProjectId", "SnapshotHash");
+
                     b.HasIndex("ProjectId", "Status", "Number");
 
                     b.ToTable("ModelVersions", (string)null);
@@ -541,6 +586,10 @@ namespace TeachServe.Server.Persistence.Migrations.Sqlite
 
                     b.Property<long?>("DeliveredAt")
                         .HasColumnType("INTEGER");
+
+                    b.Property<string>("DeliveryId")
+                        .HasMaxLength(40)
+                        .HasColumnType("TEXT");
 
                     b.Property<string>("EventType")
                         .IsRequired()
@@ -644,6 +693,15 @@ namespace TeachServe.Server.Persistence.Migrations.Sqlite
                 });
 
             modelBuilder.Entity("TeachServe.Server.Experiments.Experiment", b =>
+                {
+                    b.HasOne("TeachServe.Server.Projects.Project", null)
+                        .WithMany()
+                        .HasForeignKey("ProjectId")
+                        .OnDelete(DeleteBehavior.Cascade)
+                        .IsRequired();
+                });
+
+            modelBuilder.Entity("TeachServe.Server.Exposure.TestExposure", b =>
                 {
                     b.HasOne("TeachServe.Server.Projects.Project", null)
                         .WithMany()
