@@ -1,8 +1,12 @@
 using System.Net;
 using System.Net.Http.Headers;
+using Microsoft.AspNetCore.Diagnostics;
+using Microsoft.AspNetCore.Http;
 using Microsoft.AspNetCore.OpenApi;
+using Microsoft.Data.Sqlite;
 using Microsoft.Extensions.DependencyInjection;
 using TeachServe.Server.Health;
+using TeachServe.Server.Infrastructure;
 
 namespace TeachServe.Server.Tests;
 
@@ -62,5 +66,28 @@ public sealed class ProbeAndDocumentTests
         var other = app.Client();
         other.DefaultRequestHeaders.Add(TestApp.PeerHeader, "198.51.100.21");
         Assert.Equal(HttpStatusCode.OK, (await other.GetAsync("/readyz")).StatusCode);
+    }
+
+    [Fact]
+    public async Task A_request_that_finds_the_database_unreachable_makes_the_next_readiness_probe_ask_again()
+    {
+        using var app = new TestApp();
+        var probe = app.Service<ReadinessProbe>();
+        var client = app.Client();
+        Assert.Equal(HttpStatusCode.OK, (await client.GetAsync("/readyz")).StatusCode);
+        var checks = probe.Checks;
+        Assert.Equal(HttpStatusCode.OK, (await client.GetAsync("/readyz")).StatusCode);
+        Assert.Equal(checks, probe.Checks);
+
+        // What the pipeline does when a handler's query fails with SQLITE_BUSY.
+        var handler = app.Services.GetServices<IExceptionHandler>().OfType<ProblemDetailsExceptionHandler>().Single();
+        var http = new DefaultHttpContext { RequestServices = app.Services };
+        http.Response.Body = new MemoryStream();
+        Assert.True(await handler.TryHandleAsync(http, new SqliteException("database is locked", 5), CancellationToken.None));
+        Assert.Equal(StatusCodes.Status503ServiceUnavailable, http.Response.StatusCode);
+
+        // The cached "ready" is gone although the two seconds have not passed (the clock stands still here).
+        Assert.Equal(HttpStatusCode.OK, (await client.GetAsync("/readyz")).StatusCode);
+        Assert.Equal(checks + 1, probe.Checks);
     }
 }

@@ -15,7 +15,8 @@ public sealed class ReadinessProbe(IServiceScopeFactory scopes, StartupState sta
     public static readonly TimeSpan Lifetime = TimeSpan.FromSeconds(2);
 
     private readonly SemaphoreSlim _checking = new(1, 1);
-    private (DateTimeOffset At, string? Problem)? _last;
+    // A reference, so a probe reads a whole answer while another thread replaces or forgets it.
+    private volatile Answer? _last;
     private int _checks;
 
     /// <summary>Database checks made so far (for tests and diagnostics).</summary>
@@ -31,7 +32,7 @@ public sealed class ReadinessProbe(IServiceScopeFactory scopes, StartupState sta
         {
             if (Fresh() is { } again) return again.Problem;
             var problem = await CheckAsync(ct);
-            _last = (time.GetUtcNow(), problem);
+            _last = new Answer(time.GetUtcNow(), problem);
             return problem;
         }
         finally
@@ -40,8 +41,17 @@ public sealed class ReadinessProbe(IServiceScopeFactory scopes, StartupState sta
         }
     }
 
-    private (DateTimeOffset At, string? Problem)? Fresh() =>
+    /// <summary>
+    /// Drops the cached answer, so the next probe asks the database again. Called when a request has just found
+    /// the database unreachable: a balancer must not hear "ready" for up to <see cref="Lifetime"/> after this
+    /// node has answered 503 to a client.
+    /// </summary>
+    public void Forget() => _last = null;
+
+    private Answer? Fresh() =>
         _last is { } last && time.GetUtcNow() - last.At < Lifetime ? last : null;
+
+    private sealed record Answer(DateTimeOffset At, string? Problem);
 
     public void Dispose() => _checking.Dispose();
 

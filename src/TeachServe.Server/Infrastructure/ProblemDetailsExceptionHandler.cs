@@ -13,6 +13,7 @@ namespace TeachServe.Server.Infrastructure;
 /// </summary>
 public sealed partial class ProblemDetailsExceptionHandler(
     IProblemDetailsService problemDetails,
+    Health.ReadinessProbe readiness,
     ILogger<ProblemDetailsExceptionHandler> logger) : IExceptionHandler
 {
     public async ValueTask<bool> TryHandleAsync(HttpContext httpContext, Exception exception, CancellationToken cancellationToken)
@@ -38,6 +39,7 @@ public sealed partial class ProblemDetailsExceptionHandler(
         };
         if (problem?.Status == StatusCodes.Status503ServiceUnavailable)
         {
+            readiness.Forget();
             LogDatabaseUnavailable(logger, http.Request.Method, http.Request.Path, exception.GetBaseException().Message);
             http.Response.Headers.RetryAfter = ((int)DatabaseUnavailable.RetryAfter.TotalSeconds).ToString(System.Globalization.CultureInfo.InvariantCulture);
         }
