@@ -16,16 +16,18 @@ if [ ! -x /usr/bin/chromium ]; then
 fi
 
 # Debian's PostgreSQL and nginx (the round-robin front of the cluster tests), and npm (for the OpenAPI linter).
-missing=0
-ls /usr/lib/postgresql/*/bin/initdb >/dev/null 2>&1 || missing=1
-command -v nginx >/dev/null 2>&1 || [[ -x /usr/sbin/nginx ]] || missing=1
-command -v npm >/dev/null 2>&1 || missing=1
-if [[ $missing == 1 ]]; then
+# Only what is missing is installed: a machine whose Node.js comes from another source (with its own npm) would
+# otherwise be asked for Debian's npm, which conflicts with it.
+missing=()
+ls /usr/lib/postgresql/*/bin/initdb >/dev/null 2>&1 || missing+=(postgresql)
+command -v nginx >/dev/null 2>&1 || [[ -x /usr/sbin/nginx ]] || missing+=(nginx)
+command -v npm >/dev/null 2>&1 || missing+=(nodejs npm)
+if [[ ${#missing[@]} -gt 0 ]]; then
   if [[ $(id -u) -eq 0 ]]; then
     DEBIAN_FRONTEND=noninteractive apt-get update -qq
-    DEBIAN_FRONTEND=noninteractive apt-get install -y -qq postgresql nginx nodejs npm >/dev/null
+    DEBIAN_FRONTEND=noninteractive apt-get install -y -qq "${missing[@]}" >/dev/null
   else
-    echo "test.sh: PostgreSQL, nginx and npm are needed: sudo apt-get install -y postgresql nginx nodejs npm" >&2
+    echo "test.sh: ${missing[*]} needed: sudo apt-get install -y ${missing[*]}" >&2
     exit 1
   fi
 fi
