@@ -10,8 +10,12 @@ internal static class BalancedPools
     /// so an id says nothing about pool or label.
     /// </summary>
     /// <param name="draw">Returns one item with its label set; its id and pool are overwritten.</param>
+    /// <param name="teachable">
+    /// Whether an item may be a teaching example; one that may not (a close call whose reference label is disputed)
+    /// goes to the test pool or is dropped. Null: every item may.
+    /// </param>
     public static List<ItemDefinition> Draw(Random random, string idPrefix, IReadOnlyList<string> labels,
-        int teachPerLabel, int testPerLabel, Func<Random, ItemDefinition> draw)
+        int teachPerLabel, int testPerLabel, Func<Random, ItemDefinition> draw, Func<ItemDefinition, bool>? teachable = null)
     {
         var teach = labels.ToDictionary(l => l, _ => 0);
         var test = labels.ToDictionary(l => l, _ => 0);
@@ -22,7 +26,7 @@ internal static class BalancedPools
             if (attempts > 1000 * needed)
                 throw new InvalidOperationException($"the {idPrefix} generator rarely or never produces some label");
             var item = draw(random);
-            if (teach[item.Label] < teachPerLabel)
+            if (teach[item.Label] < teachPerLabel && (teachable is null || teachable(item)))
             {
                 teach[item.Label]++;
                 items.Add(item with { Pool = Pools.Teach });

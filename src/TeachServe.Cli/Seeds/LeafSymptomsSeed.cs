@@ -24,6 +24,12 @@ internal static class LeafSymptomsSeed
     public const int FungalSpots = 8;
     public const double DeficientYellowing = 0.5;
 
+    /// <summary>Drawing scale: a spot of diameter d mm is drawn with radius 1.3·d px, so 2.6 px per millimetre.</summary>
+    internal const double PixelsPerMm = 2.6;
+
+    /// <summary>Length of the scale bar in the drawing's corner.</summary>
+    internal const int ScaleBarMm = 5;
+
     private static readonly (int R, int G, int B) Green = (66, 140, 58);
     private static readonly (int R, int G, int B) Yellow = (214, 196, 72);
 
@@ -102,7 +108,7 @@ internal static class LeafSymptomsSeed
         Deficiency => Invariant($"Nutrient deficiency: the blade has turned yellow between green veins ({yellowing * 100:0}% yellowed) and has only {count} spot{(count == 1 ? "" : "s")}."),
         _ => count == 0
             ? Invariant($"Healthy: evenly green ({yellowing * 100:0}% yellowed) and spotless.")
-            : Invariant($"Healthy: mostly green ({yellowing * 100:0}% yellowed) with only {count} small mark{(count == 1 ? "" : "s")} ({size:0.0} mm); a few marks are normal wear."),
+            : Invariant($"Healthy: mostly green ({yellowing * 100:0}% yellowed) with only {count} small mark{(count == 1 ? "" : "s")} (about {size:0.0} mm across; the bar is {ScaleBarMm} mm); a few marks are normal wear."),
     };
 
     /// <summary>A leaf blade from two cubic curves, tinted green→yellow, green veins, brown spots with pale rims.</summary>
@@ -133,7 +139,7 @@ internal static class LeafSymptomsSeed
         if (count > 0)
         {
             svg.Add("<g fill='#6a4322' stroke='#c8b466' stroke-width='0.7'>");
-            var radius = size * 1.3;
+            var radius = size * PixelsPerMm / 2;
             for (var s = 0; s < count; s++)
             {
                 var x = 50 + random.NextDouble() * 120;
@@ -144,7 +150,10 @@ internal static class LeafSymptomsSeed
             }
             svg.Add("</g>");
         }
-        return svg.ToString();
+        var bar = ScaleBarMm * PixelsPerMm;
+        return svg.Add($"<path d='M{SvgWriter.N(186 - bar)},143 H186 M{SvgWriter.N(186 - bar)},140 V146 M186,140 V146' stroke='#1f2328' stroke-width='1' fill='none'/>")
+            .Add($"<text x='189' y='146' font-family='sans-serif' font-size='8' fill='#1f2328'>{ScaleBarMm} mm</text>")
+            .ToString();
     }
 
     /// <summary>Roughly the blade's half-width at <paramref name="x"/>: a parabola through base and tip, so no trigonometry is needed.</summary>
@@ -162,7 +171,8 @@ internal static class LeafSymptomsSeed
         for diagnosing real plants.
 
         - Items: {3 * TeachPerLabel} teach and {3 * TestPerLabel} test, a third of each per label.
-        - Features: `{SpotCount}`, `{SpotSize}`, `{Yellowing}` (0 = green, 1 = fully yellow); each item's SVG is drawn from them.
+        - Features: `{SpotCount}`, `{SpotSize}`, `{Yellowing}` (0 = green, 1 = fully yellow); each item's SVG is drawn from them,
+          with a {ScaleBarMm} mm scale bar in the corner so spot sizes can be read off the drawing.
           The reference rule: {FungalSpots} or more spots is `fungal-spots`; otherwise yellowing of {DeficientYellowing} or more is
           `nutrient-deficiency`; otherwise `healthy`. Spot size is a distractor.
         - Hypothesis family: `stumps`.

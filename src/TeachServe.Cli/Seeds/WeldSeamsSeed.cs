@@ -5,7 +5,9 @@ namespace TeachServe.Cli.Seeds;
 
 /// <summary>
 /// Invented weld seams, accept or reject, drawn as SVG from three measurements. The reference rule is linear in the
-/// measurements; about 3% of labels near its boundary are flipped, as a human reference would disagree on close calls.
+/// measurements; some test labels near its boundary are flipped, as a human reference would disagree on close calls.
+/// Teaching examples are never such close calls: an annotator is taught from seams whose label the drawing shows.
+/// Each drawing carries a width gauge in millimetres, so every measurement an explanation cites can be read off it.
 /// </summary>
 internal static class WeldSeamsSeed
 {
@@ -23,6 +25,12 @@ internal static class WeldSeamsSeed
     private const double NoiseBand = 0.2;
     private const double NoiseRate = 0.2;
 
+    /// <summary>Drawing scale: pixels per millimetre of bead width (the band is as tall as the bead is wide).</summary>
+    internal const double PixelsPerMm = 9.0;
+
+    /// <summary>Undercut notches are drawn this many times deeper than the gauge's scale (they are fractions of a millimetre).</summary>
+    internal const int NotchEnlargement = 2;
+
     /// <summary>Positive means reject: deep undercut and pores count against a seam, a wide bead for it.</summary>
     internal static double Score(double width, double undercut, double pores) =>
         4.0 * undercut + 0.35 * pores - 0.45 * width + 2.55;
@@ -33,7 +41,8 @@ internal static class WeldSeamsSeed
     public static ProjectDefinition Generate(int seed)
     {
         var random = new Random(seed);
-        var items = BalancedPools.Draw(random, "seam", [Accept, Reject], TeachPerLabel, TestPerLabel, Draw);
+        var items = BalancedPools.Draw(random, "seam", [Accept, Reject], TeachPerLabel, TestPerLabel, Draw,
+            teachable: item => item.Label == RuleLabel(item.Features!));
         return new ProjectDefinition(Settings(), items);
     }
 
@@ -74,7 +83,7 @@ internal static class WeldSeamsSeed
             Features = new Dictionary<string, double> { [BeadWidth] = width, [Undercut] = undercut, [Pores] = pores },
             Content = new ItemContent { Svg = Drawing(random, width, undercut, pores) },
             Explanation = closeCall
-                ? $"Close call: the bead, the edge notches and the pores nearly balance; the reference inspector marked this seam {label}."
+                ? $"Close call: the bead width, the edge notches and the pores nearly balance; the reference inspector marked this seam {label}."
                 : Explain(label, width, undercut, pores),
         };
     }
@@ -85,12 +94,12 @@ internal static class WeldSeamsSeed
         {
             var defects = new List<string>();
             if (undercut >= 0.05)
-                defects.Add(Invariant($"edge notches ({undercut:0.00} mm undercut)"));
+                defects.Add("shallow edge notches");
             if (pores > 0)
                 defects.Add(pores == 1 ? "single pore" : Invariant($"{pores} pores"));
             return defects.Count == 0
-                ? Invariant($"Accept: the bead is {width:0.0} mm wide and clean, with no edge notches and no pores.")
-                : Invariant($"Accept: the bead is {width:0.0} mm wide, so its {string.Join(" and ", defects)} {(defects is [{ } only] && only == "single pore" ? "is" : "are")} small enough.");
+                ? Invariant($"Accept: the bead reaches about the {width:0} mm marks of the gauge and is clean, with no edge notches and no pores.")
+                : Invariant($"Accept: the bead reaches about the {width:0} mm marks of the gauge, wide enough that its {string.Join(" and ", defects)} {(defects is [{ } only] && only == "single pore" ? "is" : "are")} acceptable.");
         }
         // Name the cue that pushed the seam furthest from a good one (9 mm bead, 0.1 mm undercut, no pores).
         var fromUndercut = 4.0 * (undercut - 0.1);
@@ -98,22 +107,25 @@ internal static class WeldSeamsSeed
         var fromWidth = 0.45 * (9.0 - width);
         var largest = Math.Max(fromUndercut, Math.Max(fromPores, fromWidth));
         if (largest < 0.45 * (Math.Max(fromUndercut, 0) + fromPores + Math.Max(fromWidth, 0)))
-            return Invariant($"Reject: no single defect, but together the {width:0.0} mm bead, {undercut:0.00} mm undercut and {pores} pore{(pores == 1 ? "" : "s")} are too much.");
+            return Invariant($"Reject: no single defect, but together a bead only at about the {width:0} mm marks of the gauge, the edge notches and {pores} pore{(pores == 1 ? "" : "s")} are too much.");
         if (fromUndercut >= fromPores && fromUndercut >= fromWidth)
-            return Invariant($"Reject: the dark notches along the bead edges are deep undercut ({undercut:0.00} mm).");
+            return Invariant($"Reject: the dark notches bite deep into the bead edges (undercut of about {undercut:0.0#} mm, drawn {NotchEnlargement}× deeper).");
         if (fromPores >= fromWidth)
-            return Invariant($"Reject: {pores} pores (the dark dots inside the bead).");
-        return Invariant($"Reject: the bead band is too narrow ({width:0.0} mm) to fill the joint.");
+            return Invariant($"Reject: {pores} pores, the dark dots inside the bead.");
+        return Invariant($"Reject: the bead band only reaches about the {width:0} mm marks of the gauge, too narrow to fill the joint.");
     }
 
-    /// <summary>Two plates, the bead as a band as tall as its width, ripples, undercut notches at the edges, pores as dots.</summary>
+    /// <summary>
+    /// Two plates, the bead as a band as tall as its width, ripples, undercut notches at the edges, pores as dots, and
+    /// on the right a gauge: a pair of marks at ±w/2 from the seam's centre line for each whole width w of 4–10 mm.
+    /// </summary>
     private static string Drawing(Random random, double width, double undercut, int pores)
     {
-        const int w = 240, h = 120;
+        const int w = 240, h = 130;
         const double middle = h / 2.0;
-        var half = width * 4.5;
+        var half = width * PixelsPerMm / 2;
         var svg = new SvgWriter(w, h, "weld seam")
-            .Add("<rect width='240' height='60' fill='#a2a8ae'/><rect y='60' width='240' height='60' fill='#949ba2'/>");
+            .Add("<rect width='240' height='65' fill='#a2a8ae'/><rect y='65' width='240' height='65' fill='#949ba2'/>");
 
         var top = new double[11];
         var bottom = new double[11];
@@ -138,7 +150,7 @@ internal static class WeldSeamsSeed
         {
             var shapes = new List<string>();
             var notches = 1 + (int)(undercut * 6);
-            var depth = 1.5 + undercut * 9;
+            var depth = Math.Max(undercut * PixelsPerMm * NotchEnlargement, 1.0);
             for (var n = 0; n < notches; n++)
             {
                 var x = 6 + random.NextDouble() * 214;
@@ -163,7 +175,25 @@ internal static class WeldSeamsSeed
             }
             svg.Add("</g>");
         }
-        return svg.ToString();
+        return svg.Add(Gauge(w, h, middle)).ToString();
+    }
+
+    /// <summary>The width gauge: a light strip at the right edge, a mark pair per whole millimetre of width, labels 4, 6, 8, 10.</summary>
+    private static string Gauge(int w, int h, double middle)
+    {
+        var marks = new List<string>();
+        var labels = new List<string>();
+        for (var mm = 4; mm <= 10; mm++)
+        {
+            var offset = mm * PixelsPerMm / 2;
+            var length = mm % 2 == 0 ? 7 : 4;
+            marks.Add($"M{w - length},{SvgWriter.N(middle - offset)} H{w} M{w - length},{SvgWriter.N(middle + offset)} H{w}");
+            if (mm % 2 == 0)
+                labels.Add($"<text x='{w - 9}' y='{SvgWriter.N(middle - offset + 3)}'>{mm}</text>");
+        }
+        return $"<rect x='{w - 22}' width='22' height='{h}' fill='#ffffff' fill-opacity='0.55'/>"
+            + $"<path d='{string.Join(' ', marks)}' stroke='#1f2328' stroke-width='1'/>"
+            + $"<g font-family='sans-serif' font-size='7' text-anchor='end' fill='#1f2328'>{string.Join("", labels)}<text x='{w - 2}' y='{h - 3}'>mm</text></g>";
     }
 
     public static string Readme(int seed)
@@ -182,9 +212,10 @@ internal static class WeldSeamsSeed
 
         - Items: {2 * TeachPerLabel} teach and {2 * TestPerLabel} test, half of each `accept`, half `reject`.
         - Features: `{BeadWidth}`, `{Undercut}`, `{Pores}`; each item's SVG is drawn from them (bead band as tall as its
-          width, dark notches for undercut, dots for pores). The reference rule is linear in the features; {flipped} of the
-          {items.Count} labels, all close to its boundary, are flipped to play the part of close calls. The explanation names
-          the cue that decided.
+          width, read on the millimetre gauge at the right edge; dark notches for undercut, drawn {NotchEnlargement}× deeper;
+          dots for pores). The reference rule is linear in the features; {flipped} of the {items.Count} labels, all of test
+          items close to its boundary, are flipped to play the part of close calls (teaching examples are never close
+          calls). The explanation names the cue that decided, in terms the drawing shows.
         - Hypothesis family: `linear`.
 
         Generated with `teachserve seed generate {Name} --out seed-projects/{Name} --seed {seed}`.

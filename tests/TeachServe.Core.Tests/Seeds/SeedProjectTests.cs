@@ -102,12 +102,15 @@ public class SeedProjectTests
     }
 
     [Fact]
-    public void Weld_seams_follow_a_linear_rule_with_a_few_percent_of_close_calls_flipped()
+    public void Weld_seams_follow_a_linear_rule_with_a_few_percent_of_close_calls_flipped_among_test_items_only()
     {
         var project = Generate(WeldSeamsSeed.Name);
         Assert.Equal(FamilyKinds.Linear, project.Settings.Family.Kind);
         var flipped = project.Items.Where(i => i.Label != WeldSeamsSeed.RuleLabel(i.Features!)).ToList();
-        Assert.InRange(flipped.Count / (double)project.Items.Count, 0.01, 0.06);
+        var tests = project.Items.Count(i => i.Pool == Pools.Test);
+        Assert.InRange(flipped.Count / (double)tests, 0.01, 0.1);
+        // An annotator is never taught from a seam whose reference label the drawing contradicts.
+        Assert.All(flipped, i => Assert.Equal(Pools.Test, i.Pool));
         Assert.All(flipped, i => Assert.StartsWith("Close call", i.Explanation, StringComparison.Ordinal));
         Assert.All(flipped, i => Assert.InRange(
             WeldSeamsSeed.Score(i.Features![WeldSeamsSeed.BeadWidth], i.Features[WeldSeamsSeed.Undercut], i.Features[WeldSeamsSeed.Pores]), -0.2, 0.2));
@@ -122,6 +125,42 @@ public class SeedProjectTests
             var svg = item.Content!.Svg!;
             Assert.Equal((int)item.Features![WeldSeamsSeed.Pores], Regex.Count(svg, "<circle "));
             Assert.Equal(item.Features[WeldSeamsSeed.Undercut] >= 0.05, svg.Contains("fill='#3b3f45'", StringComparison.Ordinal));
+            // The gauge: one mark pair per whole millimetre of width from 4 to 10, labelled every two.
+            foreach (var mm in new[] { 4, 6, 8, 10 })
+                Assert.Contains($">{mm}</text>", svg, StringComparison.Ordinal);
+            Assert.Contains(">mm</text>", svg, StringComparison.Ordinal);
+            // A millimetre figure in an explanation refers to the gauge it can be read on.
+            if (item.Explanation!.Contains(" mm marks", StringComparison.Ordinal))
+                Assert.Contains("gauge", item.Explanation, StringComparison.Ordinal);
+        }
+    }
+
+    [Fact]
+    public void Leaf_drawings_carry_a_scale_bar_on_the_spots_scale()
+    {
+        foreach (var item in Generate(LeafSymptomsSeed.Name).Items)
+        {
+            var svg = item.Content!.Svg!;
+            Assert.Contains($">{LeafSymptomsSeed.ScaleBarMm} mm</text>", svg, StringComparison.Ordinal);
+            var bar = Regex.Match(svg, @"M([\d.]+),143 H186");
+            Assert.True(bar.Success, item.Id);
+            var length = 186 - double.Parse(bar.Groups[1].Value, System.Globalization.CultureInfo.InvariantCulture);
+            Assert.Equal(LeafSymptomsSeed.ScaleBarMm * LeafSymptomsSeed.PixelsPerMm, length, 0.1);
+        }
+    }
+
+    [Fact]
+    public void Weld_seam_bead_height_matches_the_gauge_scale()
+    {
+        foreach (var item in Generate(WeldSeamsSeed.Name).Items.Take(40))
+        {
+            // The bead path's upper and lower edges (first and last points) lie ±width/2 from the centre line, give or
+            // take the 1.2 px of drawn waviness.
+            var bead = XElement.Parse(item.Content!.Svg!).Elements().First(e => (string?)e.Attribute("fill") == "#c49c6c");
+            var points = Regex.Matches((string)bead.Attribute("d")!, @"[ML](-?[\d.]+),(-?[\d.]+)")
+                .Select(m => double.Parse(m.Groups[2].Value, System.Globalization.CultureInfo.InvariantCulture)).ToList();
+            var drawnWidth = (points[^1] - points[0]) / WeldSeamsSeed.PixelsPerMm;
+            Assert.InRange(drawnWidth, item.Features![WeldSeamsSeed.BeadWidth] - 0.3, item.Features[WeldSeamsSeed.BeadWidth] + 0.3);
         }
     }
 
