@@ -35,6 +35,19 @@ public sealed class Annotator(IPage page, IFrame frame)
         return Screen;
     }
 
+    /// <summary>The owner's instructions were shown before the first item (and passed by <see cref="OpenAsync"/>).</summary>
+    public bool SawInstructions { get; private set; }
+
+    /// <summary>Waits for the first screen; if it is the owner's instructions, reads past them to the first item.</summary>
+    public async Task<(string View, int Step)> OpenAsync()
+    {
+        await NextScreenAsync();
+        if (Screen.View != "guide") return Screen;
+        SawInstructions = true;
+        await ContinueAsync(keyboard: false);
+        return Screen;
+    }
+
     /// <summary>Re-reads the current screen without waiting for a change (after a reload).</summary>
     public async Task<(string View, int Step)> CurrentScreenAsync()
     {
@@ -74,11 +87,11 @@ public sealed class Annotator(IPage page, IFrame frame)
         await NextScreenAsync();
     }
 
-    /// <summary>Leaves a feedback or notice screen.</summary>
+    /// <summary>Leaves a feedback, notice or instructions screen.</summary>
     public async Task ContinueAsync(bool keyboard)
     {
         if (keyboard) await Page.Keyboard.PressAsync("Enter");
-        else await Frame.Locator(Screen.View == "feedback" ? "#next-button" : "#notice-button").ClickAsync();
+        else await Frame.Locator(Screen.View switch { "feedback" => "#next-button", "guide" => "#guide-close", _ => "#notice-button" }).ClickAsync();
         await NextScreenAsync();
     }
 
@@ -93,7 +106,7 @@ public sealed class Annotator(IPage page, IFrame frame)
             {
                 case "end": return;
                 case "item": await AnswerAsync(keyboard); break;
-                case "feedback" or "notice": await ContinueAsync(keyboard); break;
+                case "feedback" or "notice" or "guide": await ContinueAsync(keyboard); break;
                 default: Assert.Fail($"unexpected screen {Screen.View}: {await Frame.Locator("main").InnerTextAsync()}"); break;
             }
         }

@@ -13,8 +13,10 @@ public sealed class AnnotatorPageTests(ServerFixture fixture) : IClassFixture<Se
         Assert.DoesNotContain("tst.", link, StringComparison.Ordinal);
         await page.GotoAsync(link);
         var annotator = new Annotator(page, page.MainFrame);
-        await annotator.NextScreenAsync();
+        await annotator.OpenAsync();
         Assert.DoesNotContain("code=", page.Url, StringComparison.Ordinal);
+        // The demo's owner wrote instructions: they came first.
+        Assert.True(annotator.SawInstructions);
 
         // The first answer is wrong on purpose, to see the feedback for a mistake.
         await Browser.ShotAsync(page, "annotate-01-teaching-item");
@@ -75,7 +77,7 @@ public sealed class AnnotatorPageTests(ServerFixture fixture) : IClassFixture<Se
         var page = await fixture.NewPageAsync(360, 740);
         await page.GotoAsync(link);
         var annotator = new Annotator(page, page.MainFrame);
-        await annotator.NextScreenAsync();
+        await annotator.OpenAsync();
         // Nothing is wider than the screen.
         Assert.True(await page.EvaluateAsync<bool>("document.documentElement.scrollWidth <= window.innerWidth"));
         await Browser.ShotAsync(page, "annotate-360-01-item");
@@ -100,7 +102,7 @@ public sealed class AnnotatorPageTests(ServerFixture fixture) : IClassFixture<Se
         var page = await fixture.NewPageAsync();
         await page.GotoAsync(link);
         var annotator = new Annotator(page, page.MainFrame);
-        await annotator.NextScreenAsync();
+        await annotator.OpenAsync();
         await annotator.AnswerAsync(keyboard: false);
         await annotator.ContinueAsync(keyboard: false);
         await annotator.AnswerAsync(keyboard: false);
@@ -144,7 +146,7 @@ public sealed class AnnotatorPageTests(ServerFixture fixture) : IClassFixture<Se
         var page = await fixture.NewPageAsync();
         await page.GotoAsync(link);
         var annotator = new Annotator(page, page.MainFrame);
-        await annotator.NextScreenAsync();
+        await annotator.OpenAsync();
 
         // The server stores the answer, but the response never reaches the page: it must resend, not answer again.
         var lost = 0;
@@ -188,7 +190,7 @@ public sealed class AnnotatorPageTests(ServerFixture fixture) : IClassFixture<Se
         var (_, link) = await fixture.StartSessionAsync("two-tabs-annotator");
         var first = await fixture.NewPageAsync();
         await first.GotoAsync(link);
-        await new Annotator(first, first.MainFrame).NextScreenAsync();
+        await new Annotator(first, first.MainFrame).OpenAsync();
         var second = await fixture.NewPageAsync();
         await second.GotoAsync(link);
         Assert.Equal("problem", (await new Annotator(second, second.MainFrame).NextScreenAsync()).View);
@@ -204,7 +206,7 @@ public sealed class AnnotatorPageTests(ServerFixture fixture) : IClassFixture<Se
         var (_, touchLink) = await fixture.StartSessionAsync("touch-annotator");
         var phone = await fixture.NewPageAsync(390, 844, touch: true);
         await phone.GotoAsync(touchLink);
-        await new Annotator(phone, phone.MainFrame).NextScreenAsync();
+        await new Annotator(phone, phone.MainFrame).OpenAsync();
         Assert.Equal("Tap the label that fits.", await phone.Locator("#labels-hint").InnerTextAsync());
         Assert.Equal(0, await phone.Locator("#label-buttons kbd").CountAsync());
         await Browser.ShotAsync(phone, "annotate-390-touch-item");
@@ -212,7 +214,7 @@ public sealed class AnnotatorPageTests(ServerFixture fixture) : IClassFixture<Se
         var (_, mouseLink) = await fixture.StartSessionAsync("mouse-annotator");
         var desk = await fixture.NewPageAsync();
         await desk.GotoAsync(mouseLink);
-        await new Annotator(desk, desk.MainFrame).NextScreenAsync();
+        await new Annotator(desk, desk.MainFrame).OpenAsync();
         Assert.Equal("Keys 1–2 choose a label.", await desk.Locator("#labels-hint").InnerTextAsync());
         Assert.Equal(2, await desk.Locator("#label-buttons kbd").CountAsync());
     }
@@ -224,7 +226,7 @@ public sealed class AnnotatorPageTests(ServerFixture fixture) : IClassFixture<Se
         var page = await fixture.NewPageAsync();
         await page.GotoAsync(link);
         var annotator = new Annotator(page, page.MainFrame);
-        await annotator.NextScreenAsync();
+        await annotator.OpenAsync();
         bool failedFirst = false, announcedSecond = false, numberedFromOne = false;
         for (var i = 0; i < 400 && annotator.Screen.View != "end"; i++)
         {
@@ -265,7 +267,7 @@ public sealed class AnnotatorPageTests(ServerFixture fixture) : IClassFixture<Se
         var page = await fixture.NewPageAsync();
         await page.GotoAsync(link);
         var annotator = new Annotator(page, page.MainFrame);
-        await annotator.NextScreenAsync();
+        await annotator.OpenAsync();
         var seen = new List<int>();
         for (var answered = 0; answered < 4 && annotator.Screen.View is "item" or "feedback"; )
         {

@@ -14,7 +14,7 @@ public sealed class EmbedTests(EmbedFixture fixture) : IClassFixture<EmbedFixtur
         var frame = await (await page.WaitForSelectorAsync("iframe"))!.ContentFrameAsync();
         Assert.NotNull(frame);
         var annotator = new Annotator(page, frame);
-        await annotator.NextScreenAsync();
+        await annotator.OpenAsync();
         await page.WaitForFunctionAsync("() => window.received.length >= 1");
         await Browser.ShotAsync(page, "embed-01-in-platform");
 

@@ -60,6 +60,28 @@ internal static class LeafSymptomsSeed
             Retakes = 1,
         },
         Policy = PolicyNames.Adaptive,
+        Guidance = new GuidanceSettings
+        {
+            Instructions = """
+                You will see drawings of houseplant leaves. Tell for each leaf whether it looks **healthy**, shows
+                **fungal spots**, or shows a **nutrient deficiency**. At first you get feedback after every answer;
+                then comes a short check without feedback.
+
+                What to look at:
+
+                - **Spots**: how many brown spots with pale rims the leaf has. Count them.
+                - **Colour**: how far the leaf has turned from green to yellow.
+                - The scale bar in the corner shows 5 mm, for the size of the spots.
+
+                The leaves are invented for practice; this is not advice on diagnosing real plants.
+                """,
+            Labels = new Dictionary<string, string>
+            {
+                [Healthy] = "Green, with no spots or only a few small marks.",
+                [Fungal] = "Many brown spots with pale rims, whatever the leaf's colour.",
+                [Deficiency] = "Yellowed between green veins, with only a few spots.",
+            },
+        },
     };
 
     private static ItemDefinition Draw(Random random)

@@ -61,6 +61,28 @@ internal static class WeldSeamsSeed
             Retakes = 1,
         },
         Policy = PolicyNames.Adaptive,
+        Guidance = new GuidanceSettings
+        {
+            Instructions = """
+                You will see drawings of weld seams: two grey plates joined by a brown **bead**. Decide for each seam
+                whether to **accept** or **reject** it. At first you get feedback after every answer; then comes a
+                short check without feedback.
+
+                What to look at:
+
+                - **Bead width**: read it on the millimetre gauge at the right edge, where the bead's edges meet the marks.
+                - **Edge notches** (undercut): dark triangles biting into the bead's edges, drawn twice as deep as the gauge's scale.
+                - **Pores**: dark dots inside the bead.
+
+                No single cue decides every seam: a wide bead can carry a few small defects. This is a teaching demo,
+                not a weld-inspection qualification.
+                """,
+            Labels = new Dictionary<string, string>
+            {
+                [Accept] = "A bead wide enough for its defects: few or no pores, shallow notches or none.",
+                [Reject] = "Deep edge notches, many pores, a narrow bead, or several of these together.",
+            },
+        },
     };
 
     private static ItemDefinition Draw(Random random)

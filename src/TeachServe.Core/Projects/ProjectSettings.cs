@@ -16,6 +16,8 @@ public sealed record ProjectSettings
     public double BlendWeight { get; init; } = 2.0;
     /// <summary>What the annotator page says when a session ends; absent means the page's own wording.</summary>
     public CompletionSettings? Completion { get; init; }
+    /// <summary>The owner's instructions and per-label guidance, shown to annotators before teaching and at any time after.</summary>
+    public GuidanceSettings? Guidance { get; init; }
     /// <summary>What onboarding costs the platform, for comparing gates and policies by cost per qualified release.</summary>
     public CostSettings Cost { get; init; } = new();
 }
@@ -52,6 +54,30 @@ public sealed record CompletionSettings
     public string? ContinueUrl { get; init; }
     /// <summary>Text of that link.</summary>
     public string? ContinueLabel { get; init; }
+}
+
+/// <summary>
+/// What the owner tells annotators about the task, in Markdown (CommonMark; raw HTML is shown as text, images as
+/// their description, and links only to http, https and mailto addresses). Not part of a model version: an edit
+/// reaches running sessions at once, like the completion wording.
+/// </summary>
+public sealed record GuidanceSettings
+{
+    /// <summary>Longest instructions text, in characters.</summary>
+    public const int MaxInstructions = 20_000;
+
+    /// <summary>Longest guidance of one label, in characters.</summary>
+    public const int MaxLabelGuidance = 4_000;
+
+    /// <summary>The introduction and labelling guidelines, shown before the first teaching item.</summary>
+    public string? Instructions { get; init; }
+
+    /// <summary>Per label (by its name): when to choose it, shown with the instructions.</summary>
+    public IReadOnlyDictionary<string, string>? Labels { get; init; }
+
+    /// <summary>Whether there is anything to show.</summary>
+    [JsonIgnore]
+    public bool IsEmpty => string.IsNullOrWhiteSpace(Instructions) && (Labels is null || Labels.Values.All(string.IsNullOrWhiteSpace));
 }
 
 /// <summary>How the hypotheses of a project are generated (DESIGN 2.6).</summary>

@@ -55,6 +55,7 @@ public static class ProjectValidator
             Learner(s.Learner);
             Gate(s.Gate);
             Cost(s.Cost);
+            Guidance(s.Guidance, s.Labels);
             if (Problems.Count == 0 && s.Gate?.Test is not null && s.Labels is { } labels && s.Learner is { } learner)
                 Check("gate.test.maxItems", SettingRules.TestDesign(s.Gate, labels.Count, learner.Lapse));
         }
@@ -359,6 +360,23 @@ public static class ProjectValidator
                     if (label is null || !labels.Contains(label))
                         Setting(field, $"unknown label '{label}'");
                 }
+            }
+        }
+
+        private void Guidance(GuidanceSettings? guidance, IReadOnlyList<string>? labels)
+        {
+            if (guidance is null)
+                return;
+            if (guidance.Instructions is { Length: > GuidanceSettings.MaxInstructions } text)
+                Setting("guidance.instructions", $"must be at most {GuidanceSettings.MaxInstructions} characters, not {text.Length}");
+            foreach (var (label, help) in guidance.Labels ?? new Dictionary<string, string>())
+            {
+                if (labels is null || !labels.Contains(label))
+                    Setting($"guidance.labels.{label}", $"'{label}' is not one of the project's labels");
+                else if (help is null)
+                    Setting($"guidance.labels.{label}", "must be a text (leave the label out instead)");
+                else if (help.Length > GuidanceSettings.MaxLabelGuidance)
+                    Setting($"guidance.labels.{label}", $"must be at most {GuidanceSettings.MaxLabelGuidance} characters, not {help.Length}");
             }
         }
 

@@ -22,6 +22,9 @@ public static class AnnotateApi
             .WithSummary("Trade the one-time code of a launch link for the session token (once; the code then stops working).");
         group.MapGet("/sessions/{sessionId}/page", GetPageState).RequireKey(KeyRole.Session).WithName("getPageState")
             .WithSummary("The annotator page's view of the current step: progress, the item (SVG sanitised), or how the session ended.");
+        group.MapGet("/sessions/{sessionId}/guidance", GetGuidance).RequireKey(KeyRole.Session).WithName("getGuidance")
+            .Problem(StatusCodes.Status404NotFound, "No such session.")
+            .WithSummary("The owner's instructions and per-label guidance as safe HTML (from the project as it is now; empty when there are none).");
         return group;
     }
 
@@ -31,6 +34,21 @@ public static class AnnotateApi
         var (sessionId, token) = await LaunchCodes.RedeemAsync(db, time, body.Code, ct);
         response.Headers.CacheControl = "no-store";
         return TypedResults.Ok(new LaunchExchanged(sessionId, token));
+    }
+
+    public static async Task<Results<Ok<GuidanceView>, ProblemHttpResult>> GetGuidance(string sessionId, TeachServeDb db, CancellationToken ct)
+    {
+        var project = await db.Sessions.AsNoTracking().Where(s => s.Id == sessionId)
+            .Join(db.Projects.AsNoTracking(), s => s.ProjectId, p => p.Id, (_, p) => p).FirstOrDefaultAsync(ct);
+        if (project is null) return Problems.NotFound("No such session.");
+        var settings = ProjectsApi.Settings(project);
+        var guidance = settings.Guidance;
+        var instructions = string.IsNullOrWhiteSpace(guidance?.Instructions) ? null : GuidanceMarkdown.ToHtml(guidance.Instructions);
+        var labels = settings.Labels
+            .Where(l => guidance?.Labels?.TryGetValue(l, out var text) == true && !string.IsNullOrWhiteSpace(text))
+            .Select(l => new LabelGuidance(l, GuidanceMarkdown.ToHtml(guidance!.Labels![l])))
+            .ToList();
+        return TypedResults.Ok(new GuidanceView(instructions, labels));
     }
 
     public static async Task<Results<Ok<AnnotatorPageState>, ProblemHttpResult>> GetPageState(
@@ -45,7 +63,8 @@ public static class AnnotateApi
         var gate = version.Settings.Gate;
         // The ending's wording comes from the project as it is now, so an owner's edit reaches running sessions.
         var project = await db.Projects.AsNoTracking().FirstAsync(p => p.Id == session.ProjectId, ct);
-        var completion = ProjectsApi.Settings(project).Completion;
+        var settings = ProjectsApi.Settings(project);
+        var completion = settings.Completion;
 
         // Which check this is and how far into it, so the page can announce every check and number its items from 1.
         // Not secret: the annotator has seen both; the counts of wrong answers stay on the owner's side.
@@ -81,6 +100,7 @@ public static class AnnotateApi
             MaxTestItems = gate.Test.MaxItems,
             Item = item,
             End = PageStates.End(view, completion),
+            HasGuidance = settings.Guidance is { IsEmpty: false },
             ParentOrigins = options.Value.FrameAncestors,
         });
     }

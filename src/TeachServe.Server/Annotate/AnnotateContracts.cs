@@ -35,9 +35,17 @@ public sealed record AnnotatorPageState
     public required int MaxTestItems { get; init; }
     public PageItem? Item { get; init; }
     public EndView? End { get; init; }
+    /// <summary>Whether the owner wrote instructions or label guidance (the page then fetches them once and shows them before teaching).</summary>
+    public bool HasGuidance { get; init; }
     /// <summary>Parent origins the page may post its events to (the configured frame ancestors).</summary>
     public required IReadOnlyList<string> ParentOrigins { get; init; }
 }
+
+/// <summary>The owner's instructions and per-label guidance, rendered from Markdown to safe HTML (see <see cref="GuidanceMarkdown"/>).</summary>
+public sealed record GuidanceView(string? InstructionsHtml, IReadOnlyList<LabelGuidance> Labels);
+
+/// <summary>One label's guidance, in the project's label order.</summary>
+public sealed record LabelGuidance(string Label, string Html);
 
 /// <summary>The item to answer: text, an image URL, or the sanitised SVG as a data URI.</summary>
 public sealed record PageItem(string Ref, string? Text, string? ImageUrl, string? SvgDataUri);

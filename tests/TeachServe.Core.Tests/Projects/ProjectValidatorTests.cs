@@ -47,6 +47,29 @@ public class ProjectValidatorTests
     }
 
     [Fact]
+    public void Guidance_names_only_the_projects_labels_and_stays_within_its_lengths()
+    {
+        var fine = ProjectSamples.Settings() with
+        {
+            Guidance = new GuidanceSettings
+            {
+                Instructions = new string('a', GuidanceSettings.MaxInstructions),
+                Labels = new Dictionary<string, string> { ["left"] = new string('b', GuidanceSettings.MaxLabelGuidance) },
+            },
+        };
+        Assert.Empty(ProjectValidator.Validate(fine, ProjectSamples.Items()));
+
+        var unknown = fine with { Guidance = fine.Guidance! with { Labels = new Dictionary<string, string> { ["centre"] = "x" } } };
+        AssertOnly(ProjectValidator.Validate(unknown, ProjectSamples.Items()), Settings, null, "guidance.labels.centre");
+
+        var longText = fine with { Guidance = fine.Guidance! with { Instructions = new string('a', GuidanceSettings.MaxInstructions + 1) } };
+        AssertOnly(ProjectValidator.Validate(longText, ProjectSamples.Items()), Settings, null, "guidance.instructions");
+
+        var longLabel = fine with { Guidance = fine.Guidance! with { Labels = new Dictionary<string, string> { ["right"] = new string('b', GuidanceSettings.MaxLabelGuidance + 1) } } };
+        AssertOnly(ProjectValidator.Validate(longLabel, ProjectSamples.Items()), Settings, null, "guidance.labels.right");
+    }
+
+    [Fact]
     public void Family_kind_must_be_known()
     {
         var settings = ProjectSamples.Settings("lineer");

@@ -27,6 +27,7 @@ let token = null;
 let state = null; // the last page state from the server
 let busy = false;
 let onEnter = null; // what Enter does on the current screen, if anything
+let guidance = null; // the owner's instructions, fetched once when the project has any
 
 // ---------- talking to the server ----------
 
@@ -105,7 +106,7 @@ function trackPhase() {
 
 // ---------- screens ----------
 
-const views = ["view-loading", "view-item", "view-notice", "view-end", "view-problem"];
+const views = ["view-loading", "view-item", "view-guide", "view-notice", "view-end", "view-problem"];
 
 function show(viewId, focusId) {
   for (const id of views) $(id).hidden = id !== viewId;
@@ -333,6 +334,42 @@ function renderProblem(heading, detail, retry) {
   show("view-problem", "problem-heading");
 }
 
+/**
+ * The owner's instructions and label guidance. The HTML comes from the server's Markdown renderer, which escapes raw
+ * HTML, drops images and keeps only http, https and mailto links, so it is inserted as it is.
+ */
+function renderGuide(buttonText, then) {
+  $("guide-instructions").innerHTML = guidance.instructionsHtml ?? "";
+  $("guide-instructions").hidden = !guidance.instructionsHtml;
+  const list = $("guide-label-list");
+  list.replaceChildren();
+  for (const entry of guidance.labels) {
+    const term = document.createElement("dt");
+    term.textContent = entry.label;
+    const description = document.createElement("dd");
+    description.className = "markdown";
+    description.innerHTML = entry.html;
+    list.append(term, description);
+  }
+  $("guide-labels").hidden = guidance.labels.length === 0;
+  $("guide-close").textContent = buttonText;
+  onEnter = then;
+  $("guide-close").onclick = then;
+  show("view-guide", "guide-heading");
+}
+
+async function loadGuidance() {
+  if (!state?.hasGuidance) { guidance = null; return; }
+  if (guidance) return;
+  guidance = await call("GET", `/sessions/${encodeURIComponent(sessionId)}/guidance`);
+}
+
+$("guide-open").addEventListener("click", async () => {
+  if (busy || !guidance) return;
+  // Back to whatever was showing: refresh draws the current step again (feedback and notices are kept in storage).
+  renderGuide(state?.end ? "Back" : "Back to the item", () => refresh());
+});
+
 // ---------- flow ----------
 
 async function refresh() {
@@ -342,8 +379,19 @@ async function refresh() {
     return failed(e);
   }
   trackPhase();
+  try {
+    await loadGuidance();
+  } catch (e) {
+    return failed(e);
+  }
+  $("guide-open").hidden = !guidance;
   const feedback = store.get("feedback");
   if (feedback && feedback.response.step === state.step) return renderFeedback(feedback);
+  // Before the first teaching item, the instructions come first (once per session in this tab; the header button re-opens them).
+  if (guidance && state.phase === "teaching" && state.step === 0 && !store.get("guided")) {
+    renderProgress();
+    return renderGuide("Start", () => { store.set("guided", true); renderItem(); });
+  }
   if (state.end) return renderEnd();
   if (store.get("retake") === state.step && state.phase === "teaching") return renderRetake();
   if (state.phase === "testing" && state.attemptAnswered === 0 && store.get("intro") !== state.step) return renderTestingIntro();
