@@ -38,6 +38,16 @@ public static class Cursor
         return long.TryParse(text.Value, out var n) && n >= 0 ? n : NotACursor(parameter);
     }
 
+    /// <summary>A page over numeric keys: the key to start after (0 for the first page) and the page size, or 400 for either.</summary>
+    public static Outcome<(long After, int Take)> ReadNumberPage(string? cursor, string parameter, int? limit)
+    {
+        var after = ReadNumber(cursor, parameter);
+        if (after.Problem is { } badCursor) return badCursor;
+        var take = PageSize(limit);
+        if (take.Problem is { } badLimit) return badLimit;
+        return (after.Value, take.Value);
+    }
+
     /// <summary>The page size: <see cref="DefaultLimit"/> when none was given, or 400 outside 1 to <see cref="MaxLimit"/>.</summary>
     public static Outcome<int> PageSize(int? limit) => limit switch
     {

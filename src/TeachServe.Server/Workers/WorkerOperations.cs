@@ -49,16 +49,15 @@ public sealed class WorkerOperations(TeachServeDb db, TimeProvider time, Session
     /// <summary>Audit entries after the cursor, oldest first; 400 for a foreign cursor or a limit out of range.</summary>
     public async Task<Outcome<AuditPage>> ListAuditAsync(string projectId, string? cursor, int? limit, CancellationToken ct)
     {
-        var after = Cursor.ReadNumber(cursor, "cursor");
-        if (after.Problem is { } badCursor) return badCursor;
-        var take = Cursor.PageSize(limit);
-        if (take.Problem is { } badLimit) return badLimit;
+        var request = Cursor.ReadNumberPage(cursor, "cursor", limit);
+        if (request.Problem is { } badPage) return badPage;
+        var (after, take) = request.Value;
         if (await ProjectScope.MissingProjectAsync(db, projectId, ct) is { } missing) return missing;
-        var rows = await db.Audit.AsNoTracking().Where(a => a.ProjectId == projectId && a.Id > after.Value)
-            .OrderBy(a => a.Id).Take(take.Value + 1).ToListAsync(ct);
-        var page = rows.Take(take.Value)
+        var rows = await db.Audit.AsNoTracking().Where(a => a.ProjectId == projectId && a.Id > after)
+            .OrderBy(a => a.Id).Take(take + 1).ToListAsync(ct);
+        var page = rows.Take(take)
             .Select(a => new AuditView(a.Id, a.Action, a.SubjectHash, System.Text.Json.Nodes.JsonNode.Parse(a.DetailsJson), a.At))
             .ToList();
-        return new AuditPage(page, rows.Count > take.Value ? Cursor.Encode(page[^1].Id.ToString(CultureInfo.InvariantCulture)) : null);
+        return new AuditPage(page, rows.Count > take ? Cursor.Encode(page[^1].Id.ToString(CultureInfo.InvariantCulture)) : null);
     }
 }
