@@ -33,23 +33,17 @@ public sealed class MediaOperations(
         }
 
         // The fetch runs outside the session's lock: a slow image host must not hold up the session's answers.
-        try
+        // The detail never names the owner's address: it may name the item or its label.
+        return await fetcher.FetchAsync(url, ct) switch
         {
-            return await fetcher.FetchAsync(url, ct);
-        }
-        catch (MediaFetchException e)
-        {
-            // The detail never names the owner's address: it may name the item or its label.
-            return e.Failure switch
-            {
-                MediaFailure.Refused => Problems.Of(StatusCodes.Status403Forbidden, "Image address refused",
-                    "The item's image is on an address this server does not fetch from (a loopback or private network)."),
-                MediaFailure.TimedOut => Problems.Of(StatusCodes.Status504GatewayTimeout, "Image host timed out",
-                    "The item's image host did not answer in time."),
-                _ => Problems.Of(StatusCodes.Status502BadGateway, "Image unavailable",
-                    "The item's image could not be fetched as an image within the size limit."),
-            };
-        }
+            { Image: { } image } => image,
+            { Failure: MediaFailure.Refused } => Problems.Of(StatusCodes.Status403Forbidden, "Image address refused",
+                "The item's image is on an address this server does not fetch from (a loopback or private network)."),
+            { Failure: MediaFailure.TimedOut } => Problems.Of(StatusCodes.Status504GatewayTimeout, "Image host timed out",
+                "The item's image host did not answer in time."),
+            _ => Problems.Of(StatusCodes.Status502BadGateway, "Image unavailable",
+                "The item's image could not be fetched as an image within the size limit."),
+        };
     }
 
     /// <summary>
