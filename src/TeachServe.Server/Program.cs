@@ -99,6 +99,13 @@ builder.Services.AddHostedService(sp => sp.GetRequiredService<OutboxDispatcher>(
 builder.Services.AddOptions<SimulationLimits>().BindConfiguration(SimulationLimits.Section);
 builder.Services.AddSingleton<SimulationQueue>();
 builder.Services.AddHostedService(sp => sp.GetRequiredService<SimulationQueue>());
+builder.Services.AddScoped<ExperimentOperations>();
+builder.Services.AddScoped<FitOperations>();
+builder.Services.AddScoped<SimulationOperations>();
+builder.Services.AddScoped<ReleaseOperations>();
+builder.Services.AddScoped<WorkerOperations>();
+builder.Services.AddScoped<ExposureOperations>();
+builder.Services.AddScoped<MediaOperations>();
 builder.Services.AddAnnotatePage();
 builder.Services.AddOwnerConsole();
 

@@ -115,7 +115,7 @@ public sealed class OpenApiContractTests
         // Research results spell enum members as the report serializer does, not as the integers of the default options.
         var variant = schemas["LearnerVariant"]!;
         Assert.Equal("string", variant["type"]!.GetValue<string>());
-        var written = System.Text.Json.JsonSerializer.Serialize(Core.Simulation.LearnerVariant.BiasedPrior, Experiments.ReportJson.Options);
+        var written = System.Text.Json.JsonSerializer.Serialize(Core.Simulation.LearnerVariant.BiasedPrior, Infrastructure.Json.Results);
         Assert.Contains(written.Trim('"'), variant["enum"]!.AsArray().Select(n => n!.GetValue<string>()));
         Assert.Equal(Enum.GetValues<Core.Simulation.LearnerVariant>().Length, variant["enum"]!.AsArray().Count);
     }

@@ -32,8 +32,8 @@ public sealed class PlotTests
         db.Set<SimulationJob>().Add(new SimulationJob
         {
             Id = id, ProjectId = keys.ProjectId, ModelVersion = 1, Status = SimulationStatuses.Succeeded, Progress = 1,
-            RequestJson = JsonSerializer.Serialize(new CreateSimulationRequest { Policies = [.. results.Select(r => r.Policy).Distinct()], Learners = 120 }, ReportJson.Options),
-            ResultJson = JsonSerializer.Serialize(results, ReportJson.Options),
+            RequestJson = JsonSerializer.Serialize(new CreateSimulationRequest { Policies = [.. results.Select(r => r.Policy).Distinct()], Learners = 120 }, TeachServe.Server.Infrastructure.Json.Results),
+            ResultJson = JsonSerializer.Serialize(results, TeachServe.Server.Infrastructure.Json.Results),
             CreatedAt = app.Time.GetUtcNow(), FinishedAt = app.Time.GetUtcNow(),
         });
         await db.SaveChangesAsync();

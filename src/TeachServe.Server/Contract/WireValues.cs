@@ -39,13 +39,13 @@ public sealed class WireValues : IOpenApiSchemaTransformer
 
     /// <summary>
     /// .NET enums that research results carry (simulations, fits, experiment reports). Those are written with
-    /// <see cref="ReportJson"/>, which spells enum members as kebab-case strings; the document would otherwise show
+    /// <see cref="Infrastructure.Json"/>, which spells enum members as kebab-case strings; the document would otherwise show
     /// the integers of the server's default JSON options, which no response contains.
     /// </summary>
     public static readonly IReadOnlyList<Type> KebabCaseEnums = [typeof(LearnerVariant)];
 
     /// <summary>
-    /// The types research results are made of. <see cref="ReportJson"/> writes their undefined numbers (NaN, ±∞: "not
+    /// The types research results are made of. <see cref="Infrastructure.Json"/> writes their undefined numbers (NaN, ±∞: "not
     /// enough data") as null, so their numbers are documented as nullable.
     /// </summary>
     public static readonly IReadOnlySet<Type> ReportTypes =

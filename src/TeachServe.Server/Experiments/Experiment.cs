@@ -1,7 +1,7 @@
 namespace TeachServe.Server.Experiments;
 
 /// <summary>An A/B test of teaching configurations in one project; its definition is stored as JSON.</summary>
-public sealed class Experiment
+public sealed class Experiment : Infrastructure.IProjectOwned
 {
     public required string Id { get; set; }
     public required string ProjectId { get; set; }

@@ -3,7 +3,10 @@ using TeachServe.Plots;
 
 namespace TeachServe.Server.Experiments;
 
-/// <summary>Server-rendered figures as SVG or PNG responses, at the report size.</summary>
+/// <summary>A drawn figure and the format it was asked for (<c>svg</c> or <c>png</c>).</summary>
+public sealed record PlotFile(ScottPlot.Plot Plot, string Format);
+
+/// <summary>Server-rendered figures as SVG or PNG responses, at the report size; CSV exports as text responses.</summary>
 public static class PlotImages
 {
     public const string SvgMediaType = "image/svg+xml";
@@ -20,7 +23,12 @@ public static class PlotImages
         return format is "svg" or "png";
     }
 
-    public static FileContentHttpResult Render(ScottPlot.Plot plot, string format) => format == "png"
-        ? TypedResults.File(PlotOutput.Png(plot, PlotSize.Report), PngMediaType)
-        : TypedResults.File(PlotOutput.SvgBytes(plot, PlotSize.Report), SvgMediaType);
+    public static FileContentHttpResult Render(PlotFile file) => file.Format == "png"
+        ? TypedResults.File(PlotOutput.Png(file.Plot, PlotSize.Report), PngMediaType)
+        : TypedResults.File(PlotOutput.SvgBytes(file.Plot, PlotSize.Report), SvgMediaType);
+
+    public const string CsvMediaType = "text/csv; charset=utf-8";
+
+    /// <summary>A CSV export (reports, simulation results) as the response body.</summary>
+    public static ContentHttpResult Csv(string text) => TypedResults.Text(text, CsvMediaType);
 }

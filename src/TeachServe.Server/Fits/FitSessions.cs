@@ -10,14 +10,14 @@ namespace TeachServe.Server.Fits;
 /// <summary>Reads finished sessions of a model version back from the event log as the fit sees them.</summary>
 public static class FitSessions
 {
-    public static async Task<List<RecordedSession>> LoadAsync(TeachServeDb db, string projectId, int version, int maxSessions, CancellationToken ct)
+    /// <summary>The sessions, or 422 when there are more than <paramref name="maxSessions"/>.</summary>
+    public static async Task<Infrastructure.Outcome<List<RecordedSession>>> LoadAsync(TeachServeDb db, string projectId, int version, int maxSessions, CancellationToken ct)
     {
         var ids = await db.Sessions.AsNoTracking()
             .Where(s => s.ProjectId == projectId && s.ModelVersion == version && !s.IsActive && s.Step > 0)
             .OrderBy(s => s.Id).Select(s => s.Id).Take(maxSessions + 1).ToListAsync(ct);
         if (ids.Count > maxSessions)
-            throw Infrastructure.ApiProblemException.Unprocessable(
-                $"More than {maxSessions} finished sessions; the inline fit is limited to that many.");
+            return Infrastructure.Problems.Unprocessable($"More than {maxSessions} finished sessions; the inline fit is limited to that many.");
         var events = await db.Events.AsNoTracking()
             .Where(e => e.ProjectId == projectId && e.SessionId != null && ids.Contains(e.SessionId)
                         && (e.Type == EventTypes.Answer || e.Type == EventTypes.SessionStarted))

@@ -1,7 +1,7 @@
 namespace TeachServe.Server.Fits;
 
 /// <summary>A stored fit of the learner model to the finished sessions of one model version.</summary>
-public sealed class LearnerFitRecord
+public sealed class LearnerFitRecord : Infrastructure.IProjectOwned
 {
     public required string Id { get; set; }
     public required string ProjectId { get; set; }

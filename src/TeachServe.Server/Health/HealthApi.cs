@@ -1,5 +1,6 @@
 using Microsoft.AspNetCore.Http.HttpResults;
 using TeachServe.Server.Contract;
+using TeachServe.Server.Infrastructure;
 
 namespace TeachServe.Server.Health;
 
@@ -23,6 +24,6 @@ public static class HealthApi
 
     public static async Task<Results<Ok<HealthStatus>, ProblemHttpResult>> Ready(ReadinessProbe probe, CancellationToken ct) =>
         await probe.ProblemAsync(ct) is { } problem
-            ? TypedResults.Problem(problem, statusCode: StatusCodes.Status503ServiceUnavailable, title: "Not ready")
+            ? Problems.Of(StatusCodes.Status503ServiceUnavailable, "Not ready", problem)
             : TypedResults.Ok(new HealthStatus("ready"));
 }

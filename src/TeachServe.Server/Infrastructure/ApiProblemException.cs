@@ -1,8 +1,8 @@
 namespace TeachServe.Server.Infrastructure;
 
 /// <summary>
-/// A client error raised deep in a request (parsers, the answer writer); the exception handler turns it
-/// into an RFC 9457 problem details response with this status.
+/// A client error thrown from deep in a request; the exception handler writes it with <see cref="Problems"/>. Operations
+/// return their problems instead (<see cref="Outcome{T}"/>); this remains for the request paths not yet converted.
 /// </summary>
 public sealed class ApiProblemException(int status, string title, string detail) : Exception(detail)
 {
@@ -10,17 +10,17 @@ public sealed class ApiProblemException(int status, string title, string detail)
     public string Title { get; } = title;
     public IDictionary<string, object?> Extensions { get; } = new Dictionary<string, object?>();
 
-    public static ApiProblemException NotFound(string detail) => new(StatusCodes.Status404NotFound, "Not found", detail);
-    public static ApiProblemException Conflict(string detail) => new(StatusCodes.Status409Conflict, "Conflict", detail);
-    public static ApiProblemException BadRequest(string detail) => new(StatusCodes.Status400BadRequest, "Bad request", detail);
-    public static ApiProblemException Unprocessable(string detail) =>
-        new(StatusCodes.Status422UnprocessableEntity, "Invalid content", detail);
-    public static ApiProblemException TooLarge(string detail) =>
-        new(StatusCodes.Status413PayloadTooLarge, "Request too large", detail);
+    public static ApiProblemException NotFound(string detail) => Of(StatusCodes.Status404NotFound, detail);
+    public static ApiProblemException Conflict(string detail) => Of(StatusCodes.Status409Conflict, detail);
+    public static ApiProblemException BadRequest(string detail) => Of(StatusCodes.Status400BadRequest, detail);
+    public static ApiProblemException Unprocessable(string detail) => Of(StatusCodes.Status422UnprocessableEntity, detail);
+    public static ApiProblemException TooLarge(string detail) => Of(StatusCodes.Status413PayloadTooLarge, detail);
 
     public ApiProblemException With(string key, object? value)
     {
         Extensions[key] = value;
         return this;
     }
+
+    private static ApiProblemException Of(int status, string detail) => new(status, Problems.TitleFor(status), detail);
 }

@@ -11,34 +11,64 @@ public static class Cursor
 
     public static string Encode(string lastKey) => Base64Url.EncodeToString(Encoding.UTF8.GetBytes(lastKey));
 
-    public static string? Decode(string? cursor, string parameter)
+    /// <summary>The last key in <paramref name="cursor"/> (null when none was given), or 400 naming <paramref name="parameter"/>.</summary>
+    public static Outcome<string?> Read(string? cursor, string parameter)
     {
-        if (string.IsNullOrEmpty(cursor)) return null;
-        if (cursor.Length > 200 || !Base64Url.IsValid(cursor))
-            throw ApiProblemException.BadRequest($"'{parameter}' is not a cursor returned by this API.");
-        try
+        if (string.IsNullOrEmpty(cursor)) return (string?)null;
+        if (cursor.Length <= 200 && Base64Url.IsValid(cursor))
         {
-            return Encoding.UTF8.GetString(Base64Url.DecodeFromChars(cursor));
+            try
+            {
+                return Encoding.UTF8.GetString(Base64Url.DecodeFromChars(cursor));
+            }
+            catch (FormatException)
+            {
+                // Not ours: answered below like any other foreign cursor.
+            }
         }
-        catch (FormatException)
-        {
-            throw ApiProblemException.BadRequest($"'{parameter}' is not a cursor returned by this API.");
-        }
+        return NotACursor(parameter);
     }
 
-    public static long? DecodeNumber(string? cursor, string parameter)
+    /// <summary>A cursor over numeric keys: the last key (0 when none was given), or 400.</summary>
+    public static Outcome<long> ReadNumber(string? cursor, string parameter)
     {
-        var text = Decode(cursor, parameter);
-        if (text is null) return null;
-        return long.TryParse(text, out var n) && n >= 0
-            ? n
-            : throw ApiProblemException.BadRequest($"'{parameter}' is not a cursor returned by this API.");
+        var text = Read(cursor, parameter);
+        if (text.Problem is { } problem) return problem;
+        if (text.Value is null) return 0L;
+        return long.TryParse(text.Value, out var n) && n >= 0 ? n : NotACursor(parameter);
     }
 
-    public static int Limit(int? limit) => limit switch
+    /// <summary>A page over numeric keys: the key to start after (0 for the first page) and the page size, or 400 for either.</summary>
+    public static Outcome<(long After, int Take)> ReadNumberPage(string? cursor, string parameter, int? limit)
+    {
+        var after = ReadNumber(cursor, parameter);
+        if (after.Problem is { } badCursor) return badCursor;
+        var take = PageSize(limit);
+        if (take.Problem is { } badLimit) return badLimit;
+        return (after.Value, take.Value);
+    }
+
+    /// <summary>The page size: <see cref="DefaultLimit"/> when none was given, or 400 outside 1 to <see cref="MaxLimit"/>.</summary>
+    public static Outcome<int> PageSize(int? limit) => limit switch
     {
         null => DefaultLimit,
-        < 1 or > MaxLimit => throw ApiProblemException.BadRequest($"'limit' must be between 1 and {MaxLimit}."),
+        < 1 or > MaxLimit => Problems.BadRequest($"'limit' must be between 1 and {MaxLimit}."),
         _ => limit.Value,
     };
+
+    /// <summary>Throwing form of <see cref="Read"/>, for request paths that still answer problems by exception.</summary>
+    public static string? Decode(string? cursor, string parameter)
+    {
+        var read = Read(cursor, parameter);
+        return read.Succeeded ? read.Value : throw ApiProblemException.BadRequest(read.Problem!.ProblemDetails.Detail!);
+    }
+
+    /// <summary>Throwing form of <see cref="PageSize"/>, for request paths that still answer problems by exception.</summary>
+    public static int Limit(int? limit)
+    {
+        var size = PageSize(limit);
+        return size.Succeeded ? size.Value : throw ApiProblemException.BadRequest(size.Problem!.ProblemDetails.Detail!);
+    }
+
+    private static Microsoft.AspNetCore.Http.HttpResults.ProblemHttpResult NotACursor(string parameter) => Problems.BadRequest($"'{parameter}' is not a cursor returned by this API.");
 }

@@ -8,7 +8,10 @@ public static class Ids
     private const string Alphabet = "0123456789abcdefghjkmnpqrstvwxyz";
     private static readonly System.Buffers.SearchValues<char> AlphabetValues = System.Buffers.SearchValues.Create(Alphabet);
 
-    public static string NewProjectId() => "prj_" + Base32(RandomNumberGenerator.GetBytes(10));
+    public static string NewProjectId() => New("prj_");
+
+    /// <summary>A new random id with <paramref name="prefix"/> (80 random bits).</summary>
+    public static string New(string prefix) => prefix + Base32(RandomNumberGenerator.GetBytes(10));
 
     /// <summary>Time-ordered (48-bit milliseconds, then 80 random bits) so that paging by id follows creation order.</summary>
     public static string NewSessionId(TimeProvider time)

@@ -1,12 +1,11 @@
 using System.Text.Json;
 using Microsoft.AspNetCore.Diagnostics;
-using Microsoft.AspNetCore.Mvc;
 using Microsoft.EntityFrameworkCore;
 
 namespace TeachServe.Server.Infrastructure;
 
 /// <summary>
-/// The one place where exceptions become responses: our own <see cref="ApiProblemException"/>, request-binding
+/// The one place where exceptions become responses (built by <see cref="Problems"/>): our own <see cref="ApiProblemException"/>, request-binding
 /// failures and concurrency conflicts map to 4xx problem details; an unreachable database to 503 with
 /// Retry-After; anything else is logged and answered with a generic 500 that carries a trace id but never a
 /// stack trace.
@@ -28,12 +27,12 @@ public sealed partial class ProblemDetailsExceptionHandler(
 
         var problem = exception switch
         {
-            ApiProblemException e => Problem(e.Status, e.Title, e.Message, e.Extensions),
-            BadHttpRequestException e => Problem(e.StatusCode, TitleFor(e.StatusCode), ProblemText.Describe(e)),
-            JsonException e => Problem(StatusCodes.Status400BadRequest, "Malformed JSON", ProblemText.Describe(e)),
-            DbUpdateConcurrencyException => Problem(StatusCodes.Status409Conflict, "Conflict",
+            ApiProblemException e => Problems.Details(e.Status, e.Title, e.Message, e.Extensions),
+            BadHttpRequestException e => Problems.Details(e.StatusCode, TitleFor(e.StatusCode), ProblemText.Describe(e)),
+            JsonException e => Problems.Details(StatusCodes.Status400BadRequest, Problems.Titles.MalformedJson, ProblemText.Describe(e)),
+            DbUpdateConcurrencyException => Problems.Details(StatusCodes.Status409Conflict, Problems.Titles.Conflict,
                 "The resource was changed by another request; read it again and retry."),
-            _ when DatabaseUnavailable.Is(exception) => Problem(StatusCodes.Status503ServiceUnavailable, "Database unavailable",
+            _ when DatabaseUnavailable.Is(exception) => Problems.Details(StatusCodes.Status503ServiceUnavailable, Problems.Titles.DatabaseUnavailable,
                 "The database cannot be reached right now; nothing was changed by this request. Retry shortly."),
             _ => null,
         };
@@ -46,7 +45,7 @@ public sealed partial class ProblemDetailsExceptionHandler(
         if (problem is null)
         {
             LogUnhandled(logger, exception, http.Request.Method, http.Request.Path);
-            problem = Problem(StatusCodes.Status500InternalServerError, "Server error",
+            problem = Problems.Details(StatusCodes.Status500InternalServerError, Problems.Titles.ServerError,
                 "An unexpected error occurred. The trace id identifies it in the server log.");
         }
 
@@ -59,20 +58,9 @@ public sealed partial class ProblemDetailsExceptionHandler(
         });
     }
 
-    private static ProblemDetails Problem(int status, string title, string detail, IDictionary<string, object?>? extensions = null)
-    {
-        var p = new ProblemDetails { Status = status, Title = title, Detail = detail };
-        if (extensions is not null)
-            foreach (var (k, v) in extensions) p.Extensions[k] = v;
-        return p;
-    }
-
-    private static string TitleFor(int status) => status switch
-    {
-        StatusCodes.Status413PayloadTooLarge => "Request too large",
-        StatusCodes.Status415UnsupportedMediaType => "Unsupported media type",
-        _ => "Bad request",
-    };
+    /// <summary>A request-reading failure is one of three kinds; any other status it carries reads as a bad request.</summary>
+    private static string TitleFor(int status) =>
+        status is StatusCodes.Status413PayloadTooLarge or StatusCodes.Status415UnsupportedMediaType ? Problems.TitleFor(status) : Problems.Titles.BadRequest;
 
     [LoggerMessage(Level = LogLevel.Warning, Message = "Database unavailable for {Method} {Path}: {Reason}")]
     private static partial void LogDatabaseUnavailable(ILogger logger, string method, string path, string reason);

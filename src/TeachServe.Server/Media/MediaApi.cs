@@ -1,19 +1,12 @@
 using Microsoft.AspNetCore.Http.HttpResults;
 using Microsoft.AspNetCore.OpenApi;
-using Microsoft.Extensions.Options;
 using Microsoft.OpenApi;
-using TeachServe.Server.Infrastructure;
-using TeachServe.Server.Persistence;
 using TeachServe.Server.Sessions;
 using TeachServe.Server.Contract;
 
 namespace TeachServe.Server.Media;
 
-/// <summary>
-/// Test items' images under opaque per-session addresses. The address is the capability: it carries no key (an
-/// <c>&lt;img&gt;</c> cannot send one), so it works only while its session is active and not idle past the token's
-/// timeout, and only for the test item of the session's current step; anything else is 404 alike.
-/// </summary>
+/// <summary>The route of test items' images; <see cref="MediaOperations"/> serves them.</summary>
 public static class MediaApi
 {
     public static RouteGroupBuilder MapMedia(this IEndpointRouteBuilder api)
@@ -45,56 +38,14 @@ public static class MediaApi
     }
 
     public static async Task<Results<FileContentHttpResult, ProblemHttpResult>> GetImage(
-        string sessionId, string token, HttpResponse response, TeachServeDb db, SessionEngine engine, SessionStateCache states,
-        SqliteRowReader<Session> sessionRows, MediaFetcher fetcher, TimeProvider time, IOptions<TeachServeOptions> options,
-        CancellationToken ct)
-    {
-        if (token.Length != MediaTokens.Length || sessionId.Length > 40) return Problems.NotFound("No such image.");
-        string url;
-        using (await states.LockAsync(sessionId, ct))
+        string sessionId, string token, HttpResponse response, MediaOperations media, CancellationToken ct) =>
+        (await media.ImageAsync(sessionId, token, ct)).Answer(image =>
         {
-            var session = await HotQueries.SessionAsync(db, sessionRows, sessionId, ct);
-            if (session is null || !session.IsActive || time.GetUtcNow() - session.LastSeenAt > options.Value.SessionIdleTimeout)
-                return Problems.NotFound("No such image.");
-            var (version, run) = await engine.LoadAsync(db, session, ct);
-            var item = run.CurrentItem;
-            if (item < version.Model.TeachCount || version.Content[item].ImageUrl is not { } imageUrl
-                || !MediaTokens.Matches(session.RefKey, session.Step, item, token))
-                return Problems.NotFound("No such image.");
-            url = imageUrl;
-        }
-
-        // The fetch runs outside the session's lock: a slow image host must not hold up the session's answers.
-        try
-        {
-            var image = await fetcher.FetchAsync(url, ct);
             response.Headers.CacheControl = "no-store";
             return TypedResults.File(image.Bytes, image.MediaType);
-        }
-        catch (MediaFetchException e)
-        {
-            // The detail never names the owner's address: it may name the item or its label.
-            return e.Failure switch
-            {
-                MediaFailure.Refused => TypedResults.Problem(
-                    "The item's image is on an address this server does not fetch from (a loopback or private network).",
-                    statusCode: StatusCodes.Status403Forbidden, title: "Image address refused"),
-                MediaFailure.TimedOut => TypedResults.Problem("The item's image host did not answer in time.",
-                    statusCode: StatusCodes.Status504GatewayTimeout, title: "Image host timed out"),
-                _ => TypedResults.Problem("The item's image could not be fetched as an image within the size limit.",
-                    statusCode: StatusCodes.Status502BadGateway, title: "Image unavailable"),
-            };
-        }
-    }
+        });
 
-    /// <summary>
-    /// The content the annotator gets for an item: a test item's image address replaced by its opaque per-session
-    /// address (absolute, on <paramref name="baseUrl"/>); teaching items, text and SVG unchanged.
-    /// </summary>
-    public static Core.Projects.ItemContent ForAnnotator(Versions.CompiledVersion version, Session session, int item, string baseUrl)
-    {
-        var content = version.Content[item];
-        if (item < version.Model.TeachCount || content.ImageUrl is null) return content;
-        return content with { ImageUrl = baseUrl + MediaTokens.Path(session.Id, MediaTokens.For(session.RefKey, session.Step, item)) };
-    }
+    /// <summary>Kept for the session endpoints, which call it by this name; see <see cref="MediaOperations.ForAnnotator"/>.</summary>
+    public static Core.Projects.ItemContent ForAnnotator(Versions.CompiledVersion version, Session session, int item, string baseUrl) =>
+        MediaOperations.ForAnnotator(version, session, item, baseUrl);
 }

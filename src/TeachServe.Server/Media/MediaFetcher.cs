@@ -19,9 +19,12 @@ public enum MediaFailure
     Unusable,
 }
 
-public sealed class MediaFetchException(MediaFailure failure, string reason) : Exception(reason)
+/// <summary>What a fetch gave: the image, or why there is none (an expected outcome, returned rather than thrown).</summary>
+public readonly record struct MediaFetch(FetchedImage? Image, MediaFailure? Failure)
 {
-    public MediaFailure Failure { get; } = failure;
+    public static implicit operator MediaFetch(FetchedImage image) => new(image, null);
+
+    public static implicit operator MediaFetch(MediaFailure failure) => new(null, failure);
 }
 
 /// <summary>
@@ -33,7 +36,7 @@ public sealed partial class MediaFetcher(IHttpClientFactory clients, IOptions<Te
 {
     public const string HttpClientName = "media";
 
-    public async Task<FetchedImage> FetchAsync(string url, CancellationToken ct)
+    public async Task<MediaFetch> FetchAsync(string url, CancellationToken ct)
     {
         var settings = options.Value.Media;
         using var deadline = new CancellationTokenSource(settings.Timeout, time);
@@ -44,11 +47,11 @@ public sealed partial class MediaFetcher(IHttpClientFactory clients, IOptions<Te
             using var request = new HttpRequestMessage(HttpMethod.Get, uri);
             request.Headers.Accept.Add(new MediaTypeWithQualityHeaderValue("image/*"));
             using var response = await clients.CreateClient(HttpClientName).SendAsync(request, HttpCompletionOption.ResponseHeadersRead, linked.Token);
-            if (response.StatusCode != HttpStatusCode.OK) throw Unusable(host, $"status {(int)response.StatusCode}");
+            if (response.StatusCode != HttpStatusCode.OK) return Unusable(host, $"status {(int)response.StatusCode}");
             var mediaType = response.Content.Headers.ContentType?.MediaType?.ToLowerInvariant();
             if (mediaType is null || !mediaType.StartsWith("image/", StringComparison.Ordinal) || mediaType.Contains("svg", StringComparison.Ordinal))
-                throw Unusable(host, $"content type '{mediaType}'");
-            if (response.Content.Headers.ContentLength > settings.MaxBytes) throw Unusable(host, $"{response.Content.Headers.ContentLength} bytes");
+                return Unusable(host, $"content type '{mediaType}'");
+            if (response.Content.Headers.ContentLength > settings.MaxBytes) return Unusable(host, $"{response.Content.Headers.ContentLength} bytes");
             await using var body = await response.Content.ReadAsStreamAsync(linked.Token);
             using var copy = new MemoryStream();
             var buffer = new byte[81920];
@@ -56,30 +59,30 @@ public sealed partial class MediaFetcher(IHttpClientFactory clients, IOptions<Te
             while ((read = await body.ReadAsync(buffer, linked.Token)) > 0)
             {
                 copy.Write(buffer, 0, read);
-                if (copy.Length > settings.MaxBytes) throw Unusable(host, $"more than {settings.MaxBytes} bytes");
+                if (copy.Length > settings.MaxBytes) return Unusable(host, $"more than {settings.MaxBytes} bytes");
             }
             return new FetchedImage(copy.ToArray(), mediaType);
         }
         catch (HttpRequestException e) when (RefusedAddressException.In(e) is { } refused)
         {
             LogRefused(logger, refused.Host, refused.Message);
-            throw new MediaFetchException(MediaFailure.Refused, refused.Message);
+            return MediaFailure.Refused;
         }
         catch (OperationCanceledException) when (!ct.IsCancellationRequested)
         {
             LogFailed(logger, host, "no answer in time");
-            throw new MediaFetchException(MediaFailure.TimedOut, "no answer in time");
+            return MediaFailure.TimedOut;
         }
         catch (HttpRequestException e)
         {
-            throw Unusable(host, e.Message);
+            return Unusable(host, e.Message);
         }
     }
 
-    private MediaFetchException Unusable(string host, string reason)
+    private MediaFailure Unusable(string host, string reason)
     {
         LogFailed(logger, host, reason);
-        return new MediaFetchException(MediaFailure.Unusable, reason);
+        return MediaFailure.Unusable;
     }
 
     [LoggerMessage(Level = LogLevel.Warning, Message = "Refused to fetch an item image from {Host}: {Reason} (TeachServe:Media:AllowPrivateNetworks)")]

@@ -1,10 +1,6 @@
-using System.Globalization;
 using Microsoft.AspNetCore.Http.HttpResults;
-using Microsoft.EntityFrameworkCore;
 using TeachServe.Server.Auth;
 using TeachServe.Server.Contract;
-using TeachServe.Server.Infrastructure;
-using TeachServe.Server.Persistence;
 using TeachServe.Server.Sessions;
 
 namespace TeachServe.Server.Releases;
@@ -14,6 +10,7 @@ public sealed record ReleaseView(string SessionId, string WorkerRef, int ModelVe
 /// <summary>A page of the feed; <see cref="Next"/> is always set, so a platform polls with it and gets only newer releases.</summary>
 public sealed record ReleasePage(IReadOnlyList<ReleaseView> Releases, string Next);
 
+/// <summary>The release feed route; <see cref="ReleaseOperations"/> reads it.</summary>
 public static class ReleasesApi
 {
     public static RouteGroupBuilder MapReleases(this IEndpointRouteBuilder api)
@@ -26,16 +23,6 @@ public static class ReleasesApi
     }
 
     public static async Task<Results<Ok<ReleasePage>, ProblemHttpResult>> ListReleases(
-        string projectId, string? after, int? limit, TeachServeDb db, CancellationToken ct)
-    {
-        var from = Cursor.DecodeNumber(after, "after") ?? 0;
-        var take = Cursor.Limit(limit);
-        if (!await db.Projects.AnyAsync(p => p.Id == projectId, ct)) return Problems.NotFound("No such project.");
-        var rows = await db.Releases.AsNoTracking().Where(r => r.ProjectId == projectId && r.Id > from)
-            .OrderBy(r => r.Id).Take(take).ToListAsync(ct);
-        var next = rows.Count > 0 ? rows[^1].Id : from;
-        return TypedResults.Ok(new ReleasePage(
-            rows.Select(r => new ReleaseView(r.SessionId, r.WorkerRef, r.ModelVersion, r.ReleasedAt, Json.Deserialize<EvidenceView>(r.EvidenceJson))).ToList(),
-            Cursor.Encode(next.ToString(CultureInfo.InvariantCulture))));
-    }
+        string projectId, string? after, int? limit, ReleaseOperations releases, CancellationToken ct) =>
+        (await releases.ListAsync(projectId, after, limit, ct)).Answer(TypedResults.Ok);
 }

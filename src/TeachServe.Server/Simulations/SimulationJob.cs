@@ -1,7 +1,7 @@
 namespace TeachServe.Server.Simulations;
 
 /// <summary>One simulation run submitted over the API: its request, state, progress and results.</summary>
-public sealed class SimulationJob
+public sealed class SimulationJob : Infrastructure.IProjectOwned
 {
     public required string Id { get; set; }
     public required string ProjectId { get; set; }

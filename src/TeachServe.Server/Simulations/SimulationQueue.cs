@@ -5,7 +5,7 @@ using Microsoft.EntityFrameworkCore;
 using Microsoft.Extensions.Options;
 using TeachServe.Core.Simulation;
 using TeachServe.Core.Teaching;
-using TeachServe.Server.Experiments;
+using TeachServe.Server.Infrastructure;
 using TeachServe.Server.Persistence;
 using TeachServe.Server.Versions;
 
@@ -146,7 +146,7 @@ public sealed partial class SimulationQueue(
             if (started == 0) return;
         }
 
-        var request = JsonSerializer.Deserialize<CreateSimulationRequest>(job.RequestJson, ReportJson.Options)!;
+        var request = JsonSerializer.Deserialize<CreateSimulationRequest>(job.RequestJson, Json.Results)!;
         var version = await versions.GetAsync(job.ProjectId, job.ModelVersion, stoppingToken);
         var variants = SimulationRequests.Variants(request);
         var total = request.Policies.Count * variants.Count;
@@ -185,7 +185,7 @@ public sealed partial class SimulationQueue(
             await FinishAsync(id, status, reason, null, CancellationToken.None);
             return;
         }
-        await FinishAsync(id, SimulationStatuses.Succeeded, null, JsonSerializer.Serialize(results, ReportJson.Options), stoppingToken);
+        await FinishAsync(id, SimulationStatuses.Succeeded, null, JsonSerializer.Serialize(results, Json.Results), stoppingToken);
         LogJobDone(logger, id, total);
     }
 
