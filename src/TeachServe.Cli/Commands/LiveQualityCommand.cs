@@ -128,6 +128,7 @@ internal static class LiveQualityCommand
     {
         var o = r.Options;
         output.WriteLine(Inv($"released annotators: mean answer error {r.ReleasedAnswerError:F4}; {o.Annotators} per scenario, change after {o.ChangeAt} checks, in-control horizon {o.InControlHorizon}, {o.AfterChangeHorizon} checks followed after the change"));
+        output.WriteLine(Inv($"count CUSUM lattice {r.Lattice.Up}/{r.Lattice.Down}, reference error {r.Lattice.TargetError:F4} ({(o.ReferenceAtRelease ? "predicted at release" : "target")}) against p1 {r.Lattice.DriftError:F4}; limits swept, each at its pooled in-control ARL"));
         output.WriteLine(Inv($"candidate rules watched: {r.CandidateCount}, holding {r.CandidateCoverage:P1} of the prior mass of the shortcut rules drawn; window rule: last {o.Window} checks"));
         output.WriteLine();
         output.WriteLine("detection delay (checks after the change) at equal in-control ARL, mean [95 % interval], runs counted / runs whose rule never went above target; every limit is its own chart, restarted after each false alarm:");
@@ -156,7 +157,7 @@ internal static class LiveQualityCommand
         }
 
         output.WriteLine();
-        output.WriteLine(Inv($"refreshers at the first alarm after the change (count CUSUM at ARL0 >= {o.DeployedRunLength} at p0, or candidate charts at simulated ARL0 >= {o.DeployedRunLength}); live belief with forgetting {o.AssumedForgetting}/check; at most 10 items, then a 10-item check:"));
+        output.WriteLine(Inv($"refreshers at the first alarm after the change (count CUSUM with exact ARL0 >= {o.DeployedRunLength} at its reference error, or candidate charts at simulated ARL0 >= {o.DeployedRunLength}); live belief with forgetting {o.AssumedForgetting}/check; at most 10 items, then a 10-item check:"));
         output.WriteLine("| scenario | refreshers | items, median (mean) | answer error before, median | after, median | under target after [95 %] | check passed |");
         output.WriteLine("|---|---|---|---|---|---|---|");
         foreach (var f in r.Refreshers)
