@@ -37,8 +37,9 @@ public sealed class BernoulliCusumTests
 
     /// <summary>
     /// The exact chain against Siegmund's corrected diffusion approximation with the Reynolds &amp; Stoumbos (1999)
-    /// Bernoulli correction, on their lattice (Down = 1). Reynolds &amp; Stoumbos report the approximation as accurate
-    /// to a few per cent for designs of this kind (from memory: their tables were not in hand); the tolerance here is 10 %.
+    /// Bernoulli correction, on their lattice (Down = 1). Reynolds &amp; Stoumbos describe the approximation as accurate
+    /// to a few per cent for designs of this kind (from memory: their tables were not in hand, so no printed ARL is
+    /// checked here); the tolerance is 5 %, which fails if the overshoot correction ε(p) is left out.
     /// </summary>
     [Theory]
     [InlineData(0.01, 0.02, 3000)]
@@ -54,7 +55,7 @@ public sealed class BernoulliCusumTests
         {
             var exact = design.RunLength(p);
             var approximate = BernoulliCusum.DiffusionApproximation(design, p);
-            AssertNear.Relative(exact, approximate, 0.10, $"p0 {p0}, p {p}: exact {exact:F1}, approximation {approximate:F1}");
+            AssertNear.Relative(exact, approximate, 0.05, $"p0 {p0}, p {p}: exact {exact:F1}, approximation {approximate:F1}");
         }
     }
 
