@@ -107,6 +107,14 @@ internal static class LiveQualityCommand
         }
 
         Print(output, result);
+        output.WriteLine();
+        output.WriteLine("forgetting rate recovered by maximum likelihood (40 released annotators x 300 live checks, forgetting from release):");
+        foreach (var rate in new[] { 0.005, 0.02 })
+        {
+            var fit = LiveQualityStudy.FitForgetting(model, gate.TargetError, lapse, rate, 40, 300, seed);
+            output.WriteLine(Inv($"  true {rate}/check: fitted {fit.PerCheck:F4} [{fit.Low:F4}, {fit.High:F4}] (95 % profile-likelihood interval)"));
+        }
+
         return ExitCodes.Ok;
     }
 

@@ -185,6 +185,45 @@ public static class LiveQualityStudy
         };
     }
 
+    /// <summary>
+    /// Recovers a forgetting rate from simulated live records: released annotators (rule from the prior within target)
+    /// who fall back to a prior rule with probability <paramref name="rate"/> per check, fitted by <see cref="ForgettingFit"/>.
+    /// </summary>
+    public static ForgettingFitResult FitForgetting(ModelVersion model, double targetRuleError, double lapse, double rate, int annotators, int checks, ulong seed)
+    {
+        ArgumentNullException.ThrowIfNull(model);
+        ArgumentOutOfRangeException.ThrowIfLessThan(annotators, 1);
+        ArgumentOutOfRangeException.ThrowIfLessThan(checks, 1);
+        var release = new double[model.HypothesisCount];
+        for (var h = 0; h < release.Length; h++)
+        {
+            release[h] = model.Error[h] <= targetRuleError ? model.Prior[h] : 0;
+        }
+
+        var total = release.Sum();
+        var records = new List<LiveRecord>();
+        for (var a = 0; a < annotators; a++)
+        {
+            var random = new SeededRandom(SeededRandom.Derive(seed, (ulong)a));
+            var annotator = new LiveAnnotator(model, random.Choose(release, total), lapse, model.Q, random);
+            var record = new List<LiveCheck>(checks);
+            for (var t = 0; t < checks; t++)
+            {
+                if (random.NextDouble() < rate)
+                {
+                    annotator.Forget();
+                }
+
+                var item = random.NextInt(model.ItemCount);
+                record.Add(new LiveCheck(item, annotator.Answer(item), model.TrueLabel(item)));
+            }
+
+            records.Add(new LiveRecord(release, record));
+        }
+
+        return ForgettingFit.Fit(model, lapse, records);
+    }
+
     private static int LevelCount(Context context, string monitor) => monitor switch
     {
         MonitorNames.CountCusum => context.CountLevels,
