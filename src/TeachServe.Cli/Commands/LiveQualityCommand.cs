@@ -13,11 +13,11 @@ namespace TeachServe.Cli.Commands;
 /// </summary>
 internal static class LiveQualityCommand
 {
-    public const string Usage = "teachserve live-quality DIR [--annotators N] [--seed S] [--arl0 200,500,1000] [--drift RULE_ERROR] [--candidates N] [--refreshers N] [--reference release|target] [--threads N]";
+    public const string Usage = "teachserve live-quality DIR [--annotators N] [--seed S] [--arl0 200,500,1000] [--drift RULE_ERROR] [--candidates N] [--refreshers N] [--reference release|target] [--fit N] [--threads N]";
 
     public static int Run(string[] args, TextWriter output, TextWriter error)
     {
-        var options = CliArguments.Parse(args, flags: [], values: ["--annotators", "--seed", "--arl0", "--drift", "--candidates", "--refreshers", "--threads", "--reference"]);
+        var options = CliArguments.Parse(args, flags: [], values: ["--annotators", "--seed", "--arl0", "--drift", "--candidates", "--refreshers", "--threads", "--reference", "--fit"]);
         if (options is null || options.Positional.Count != 1)
         {
             return Commands.Usage.Fail(error, "live-quality needs one project folder", Usage);
@@ -27,7 +27,8 @@ internal static class LiveQualityCommand
         if (!Integer(options, "--annotators", 10, 1_000_000, error, out var annotators)
             || !Integer(options, "--candidates", 0, 1000, error, out var candidates)
             || !Integer(options, "--refreshers", 0, 100_000, error, out var refresherRuns)
-            || !Integer(options, "--threads", 1, 64, error, out var threads))
+            || !Integer(options, "--threads", 1, 64, error, out var threads)
+            || !Integer(options, "--fit", 0, 10_000, error, out var fitAnnotators))
         {
             return ExitCodes.Usage;
         }
@@ -107,11 +108,17 @@ internal static class LiveQualityCommand
         }
 
         Print(output, result);
+        var fitCount = fitAnnotators ?? 40;
+        if (fitCount == 0)
+        {
+            return ExitCodes.Ok;
+        }
+
         output.WriteLine();
-        output.WriteLine("forgetting rate recovered by maximum likelihood (40 released annotators x 300 live checks, forgetting from release):");
+        output.WriteLine(Inv($"forgetting rate recovered by maximum likelihood ({fitCount} released annotators x 300 live checks, forgetting from release):"));
         foreach (var rate in new[] { 0.005, 0.02 })
         {
-            var fit = LiveQualityStudy.FitForgetting(model, gate.TargetError, lapse, rate, 40, 300, seed);
+            var fit = LiveQualityStudy.FitForgetting(model, gate.TargetError, lapse, rate, fitCount, 300, seed);
             output.WriteLine(Inv($"  true {rate}/check: fitted {fit.PerCheck:F4} [{fit.Low:F4}, {fit.High:F4}] (95 % profile-likelihood interval)"));
         }
 

@@ -91,6 +91,34 @@ public sealed class LiveBeliefTests
     }
 
     [Fact]
+    public void Model_view_agrees_with_the_observed_live_check_error_of_a_stable_annotator()
+    {
+        // Both views count wrong answers on live checks. An annotator holding one rule with lapse 0.1 answers 600
+        // checks; the live belief's predicted answer error and the observed error rate must agree within 3 binomial
+        // standard errors, for each of several rules.
+        var random = new SeededRandom(31);
+        foreach (var rule in new[] { Model.TargetIndex, 2, 7, 11 })
+        {
+            var live = new LiveBelief(Model, 0.1, Model.Prior, ForgettingRate.None);
+            var wrong = 0;
+            const int n = 600;
+            for (var t = 0; t < n; t++)
+            {
+                var item = random.NextInt(Model.ItemCount);
+                var label = random.NextDouble() < 0.1 ? random.NextInt(3) : Model.Predict(rule, item);
+                var check = new LiveCheck(item, label, Model.TrueLabel(item));
+                wrong += check.Wrong ? 1 : 0;
+                live.Observe(check);
+            }
+
+            var observed = (double)wrong / n;
+            var expected = (0.9 * Model.Error[rule]) + (0.1 * 2 / 3);
+            AssertNear.Absolute(expected, live.PredictedAnswerError(), 0.02, $"rule {rule}: model view against the rule's own answer error");
+            AssertNear.Absolute(observed, live.PredictedAnswerError(), 3 * Math.Sqrt(expected * (1 - expected) / n) + 0.02, $"rule {rule}: model view against the observed rate");
+        }
+    }
+
+    [Fact]
     public void Mistake_probability_and_confusions_follow_the_belief()
     {
         var live = new LiveBelief(Model, 0.1, Released().Weights, ForgettingRate.None);

@@ -110,11 +110,12 @@ public sealed class RefresherAndStudyTests(SeedModels seeds) : IClassFixture<See
     [Fact]
     public void Command_prints_the_tables_and_refuses_bad_arguments()
     {
-        var (code, output, error) = CliRun.Run("live-quality", CliRun.Seed("weld-seams"), "--annotators", "20", "--refreshers", "5", "--arl0", "100,200", "--threads", "2");
+        var (code, output, error) = CliRun.Run("live-quality", CliRun.Seed("weld-seams"), "--annotators", "20", "--refreshers", "5", "--arl0", "100,200", "--threads", "2", "--fit", "4");
         Assert.True(code == 0, error);
         Assert.Contains("count CUSUM designs", output, StringComparison.Ordinal);
         Assert.Contains("| shortcut rule | 100 |", output, StringComparison.Ordinal);
         Assert.Contains("refreshers at the first alarm", output, StringComparison.Ordinal);
+        Assert.Contains("true 0.02/check: fitted", output, StringComparison.Ordinal);
 
         var bad = CliRun.Run("live-quality", CliRun.Seed("weld-seams"), "--drift", "0.05");
         Assert.NotEqual(0, bad.Code);
