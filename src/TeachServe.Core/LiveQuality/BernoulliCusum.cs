@@ -80,26 +80,41 @@ public static class BernoulliCusum
     /// <summary>L(s) for every starting state s = 0..limit−1 (a head start begins above 0).</summary>
     public static double[] AverageRunLengths(int up, int down, int limit, double p)
     {
-        ArgumentOutOfRangeException.ThrowIfLessThan(up, 1);
-        ArgumentOutOfRangeException.ThrowIfLessThan(down, 1);
-        ArgumentOutOfRangeException.ThrowIfLessThan(limit, 1);
-        ArgumentOutOfRangeException.ThrowIfGreaterThan(limit, MaxStates);
         if (!(p > 0 && p <= 1))
         {
             throw new ArgumentOutOfRangeException(nameof(p), p, "Must lie in (0, 1]: with p = 0 the chart never alarms.");
         }
 
+        return AverageRunLengths(up, down, limit, p, 1 - p);
+    }
+
+    /// <summary>
+    /// L(s) for a lattice chart that steps up with probability <paramref name="pUp"/>, down with <paramref name="pDown"/>
+    /// and stays otherwise: L(s) = 1 + pUp·L(s + up) + pDown·L(max(0, s − down)) + (1 − pUp − pDown)·L(s).
+    /// </summary>
+    public static double[] AverageRunLengths(int up, int down, int limit, double pUp, double pDown)
+    {
+        ArgumentOutOfRangeException.ThrowIfLessThan(up, 1);
+        ArgumentOutOfRangeException.ThrowIfLessThan(down, 1);
+        ArgumentOutOfRangeException.ThrowIfLessThan(limit, 1);
+        ArgumentOutOfRangeException.ThrowIfGreaterThan(limit, MaxStates);
+        if (!(pUp > 0 && pDown >= 0 && pUp + pDown <= 1 + 1e-12))
+        {
+            throw new ArgumentOutOfRangeException(nameof(pUp), pUp, "Need pUp > 0, pDown ≥ 0 and pUp + pDown ≤ 1.");
+        }
+
+        var stay = Math.Max(0, 1 - pUp - pDown);
         var a = Matrix<double>.Build.Dense(limit, limit);
         var ones = Vector<double>.Build.Dense(limit, 1.0);
         for (var s = 0; s < limit; s++)
         {
-            a[s, s] += 1.0;
+            a[s, s] += 1.0 - stay;
             if (s + up < limit)
             {
-                a[s, s + up] -= p;
+                a[s, s + up] -= pUp;
             }
 
-            a[s, Math.Max(0, s - down)] -= 1.0 - p;
+            a[s, Math.Max(0, s - down)] -= pDown;
         }
 
         return a.LU().Solve(ones).ToArray();

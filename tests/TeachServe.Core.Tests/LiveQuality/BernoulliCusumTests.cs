@@ -1,4 +1,5 @@
 using TeachServe.Core.LiveQuality;
+using TeachServe.Core.Tests.Engine;
 using TeachServe.Core.Tests.Support;
 using Xunit;
 
@@ -85,5 +86,63 @@ public sealed class BernoulliCusumTests
         var mean = sum / runs;
         var se = Math.Sqrt(((squares / runs) - (mean * mean)) / runs);
         AssertNear.Absolute(design.RunLength(p), mean, 4 * se, $"p = {p}");
+    }
+}
+
+public sealed class CandidateChartDesignTests
+{
+    [Fact]
+    public void Candidate_chart_run_length_agrees_with_a_seeded_simulation_of_in_control_answers()
+    {
+        // In control at p0 = 0.2 on a 3-label model: the exact single-chart ARLs combined by adding rates, against
+        // 3,000 simulated runs of the monitor's own charts. The combination is exact for independent charts and
+        // conservative otherwise, so the simulated ARL must be at least 0.9 of it and at most 1.6 times it.
+        var model = TinyModels.Random(seed: 5, m: 24, teach: 30, test: 10, labels: 3, alpha: 1.0, lapse: 0.1);
+        const double p0 = 0.2;
+        var candidates = DriftCandidates.Choose(model, model.Prior, 0.15, 3);
+        var limit = CandidateChartDesign.Limit(model, candidates, p0, 150);
+        var predicted = CandidateChartDesign.InControlRunLength(model, candidates, p0, limit);
+        Assert.True(predicted >= 150);
+        Assert.True(CandidateChartDesign.InControlRunLength(model, candidates, p0, limit - 1) < 150);
+
+        var monitor = new LiveMonitor(new LiveMonitorSettings { Cusum = BernoulliCusum.Design(0.2, 0.9, 1e6, maxDown: 1), CandidateLimit = limit }, model);
+        var random = new SeededRandom(77);
+        const int runs = 3000;
+        double total = 0;
+        for (var r = 0; r < runs; r++)
+        {
+            var state = monitor.Start(candidates);
+            var n = 0;
+            while (true)
+            {
+                n++;
+                var item = random.NextInt(model.ItemCount);
+                var truth = model.TrueLabel(item);
+                var label = random.NextDouble() < p0 ? (truth + 1 + random.NextInt(2)) % 3 : truth;
+                var step = monitor.Apply(state, new LiveCheck(item, label, truth));
+                if ((step.Alarms & LiveAlarms.CandidateRule) != 0)
+                {
+                    break;
+                }
+
+                state = step.State;
+            }
+
+            total += n;
+        }
+
+        var simulated = total / runs;
+        Assert.InRange(simulated, 0.9 * predicted, 1.6 * predicted);
+    }
+
+    [Fact]
+    public void Run_length_with_a_stay_probability_matches_the_closed_form()
+    {
+        // Up = Down = 1, limit 1: alarms on the first up-step, so the run length is geometric with mean 1/pUp [derived].
+        AssertNear.Relative(1 / 0.07, BernoulliCusum.AverageRunLengths(1, 1, 1, 0.07, 0.5)[0], 1e-10);
+
+        // Staying in place only stretches time: ARL(pUp, pDown) = ARL(pUp/(pUp+pDown) as p) / (pUp + pDown) [derived].
+        var p = 0.1 / (0.1 + 0.6);
+        AssertNear.Relative(BernoulliCusum.AverageRunLength(2, 1, 7, p) / 0.7, BernoulliCusum.AverageRunLengths(2, 1, 7, 0.1, 0.6)[0], 1e-10);
     }
 }
