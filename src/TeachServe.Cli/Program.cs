@@ -17,6 +17,7 @@ internal static class Program
         ["simulate", .. var rest] => OnProject(() => SimulateCommand.Run(rest, output, error), error),
         ["gate", .. var rest] => OnProject(() => GateCommand.Run(rest, output, error), error),
         ["robustness", .. var rest] => OnProject(() => RobustnessCommand.Run(rest, output, error), error),
+        ["live-quality", .. var rest] => OnProject(() => LiveQualityCommand.Run(rest, output, error), error),
         ["help" or "--help" or "-h", ..] => Usage.Show(output),
         [] => Usage.Fail(error, "no verb given"),
         [var verb, ..] => Usage.Fail(error, $"unknown verb '{verb}'"),

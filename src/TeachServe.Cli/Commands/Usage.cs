@@ -10,6 +10,7 @@ internal static class Usage
         SimulateCommand.Usage,
         GateCommand.Usage,
         RobustnessCommand.Usage,
+        LiveQualityCommand.Usage,
     ];
 
     public static int Show(TextWriter output)

@@ -28,6 +28,44 @@ public sealed class Belief
         _learner = model.Prior.ToArray();
     }
 
+    /// <summary>
+    /// A belief that continues from weights β (a released annotator's live belief, say) with the learner's posterior
+    /// reset to the prior: a refresher treats what onboarding taught as forgotten as far as β says, so a redraw comes
+    /// from the prior updated by the refresher's own items only.
+    /// </summary>
+    public static Belief Continue(ModelVersion model, double q, double lapse, ReadOnlySpan<double> weights)
+    {
+        ArgumentNullException.ThrowIfNull(model);
+        if (weights.Length != model.HypothesisCount)
+        {
+            throw new ArgumentException("One weight per hypothesis is needed.", nameof(weights));
+        }
+
+        var total = 0.0;
+        foreach (var w in weights)
+        {
+            if (!(w >= 0))
+            {
+                throw new ArgumentOutOfRangeException(nameof(weights), w, "Weights must be non-negative numbers.");
+            }
+
+            total += w;
+        }
+
+        if (!(total > 0))
+        {
+            throw new ArgumentException("The weights must have positive mass.", nameof(weights));
+        }
+
+        var belief = new Belief(model, q, lapse);
+        for (var h = 0; h < weights.Length; h++)
+        {
+            belief._belief[h] = weights[h] / total;
+        }
+
+        return belief;
+    }
+
     private Belief(Belief other)
     {
         _model = other._model;
