@@ -45,7 +45,7 @@ public static class AnnotateApi
         var gate = version.Settings.Gate;
         // The ending's wording comes from the project as it is now, so an owner's edit reaches running sessions.
         var project = await db.Projects.AsNoTracking().FirstAsync(p => p.Id == session.ProjectId, ct);
-        var completion = ProjectsApi.Settings(project).Completion;
+        var completion = ProjectOperations.Settings(project).Completion;
 
         // Which check this is and how far into it, so the page can announce every check and number its items from 1.
         // Not secret: the annotator has seen both; the counts of wrong answers stay on the owner's side.

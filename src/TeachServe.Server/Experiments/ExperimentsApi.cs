@@ -65,7 +65,7 @@ public static class ExperimentsApi
             ControlArm = body.ControlArm,
             Salt = Ids.Base32(System.Security.Cryptography.RandomNumberGenerator.GetBytes(10)),
         };
-        var problems = ExperimentValidator.Validate(definition, ProjectsApi.Settings(project).Gate, ProjectsApi.Settings(project).Labels.Count, ProjectsApi.Settings(project).Learner.Lapse);
+        var problems = ExperimentValidator.Validate(definition, ProjectOperations.Settings(project).Gate, ProjectOperations.Settings(project).Labels.Count, ProjectOperations.Settings(project).Learner.Lapse);
         if (problems.Count > 0)
             return Problems.Unprocessable("The experiment is not valid.", new Dictionary<string, object?>
             {
@@ -197,7 +197,7 @@ public static class ExperimentsApi
     private static async Task<ExperimentReportOptions> OptionsAsync(TeachServeDb db, Experiment experiment, CancellationToken ct)
     {
         var project = await db.Projects.AsNoTracking().FirstOrDefaultAsync(p => p.Id == experiment.ProjectId, ct);
-        return project is null ? new ExperimentReportOptions() : new ExperimentReportOptions { Cost = ProjectsApi.Settings(project).Cost };
+        return project is null ? new ExperimentReportOptions() : new ExperimentReportOptions { Cost = ProjectOperations.Settings(project).Cost };
     }
 
     private static async Task<Experiment?> FindAsync(TeachServeDb db, ClaimsPrincipal user, string experimentId, bool tracked, CancellationToken ct)
