@@ -194,10 +194,12 @@ public static class ConsoleEndpoints
                 problems: new FormProblems("settings", "The settings were not saved.", problems), typed: form);
         var patched = await projects.PatchAsync(project.Id, patch, ct);
         if (!patched.Succeeded)
-            return await ProjectPageAsync(http, forms, items, versions, project, patched.Problem.StatusCode, ct,
-                problems: Refused("settings", patched.Problem) is { List.Count: > 0 } named
-                    ? named with { Heading = "The settings were not saved." }
-                    : Refused("settings", patched.Problem, prefix: "The settings were not saved"), typed: form);
+        {
+            // Problems that name their fields need no more words above them; one without fields is its own explanation.
+            var refused = Refused("settings", patched.Problem);
+            refused = refused with { Heading = refused.List.Count > 0 ? "The settings were not saved." : $"The settings were not saved: {refused.Heading}" };
+            return await ProjectPageAsync(http, forms, items, versions, project, patched.Problem.StatusCode, ct, problems: refused, typed: form);
+        }
         var saved = await projects.FindAsync(project.Id, ct) ?? project;
         return await ProjectPageAsync(http, forms, items, versions, saved, StatusCodes.Status200OK, ct,
             message: "Settings saved. Compile a new model version to use the new gate.");
