@@ -54,7 +54,7 @@ public sealed partial class DemoProject(
         await db.SaveChangesAsync(ct);
         if (!compiled.Succeeded)
         {
-            banner.Add("Demo project", $"{project.Id}: compiling failed: {compiled.Problem.ProblemDetails.Detail}");
+            banner.Add("Demo project", $"{project.Id}: not ready: {compiled.Problem.ProblemDetails.Detail}");
             return;
         }
         // The demo link is read from the console later than a platform would hand one out: give it the token's lifetime.
