@@ -67,6 +67,10 @@ builder.Services.AddApiContract();
 builder.Services.AddOpenApiDocumentCache();
 
 // Features.
+builder.Services.AddScoped<ProjectOperations>();
+builder.Services.AddScoped<ItemOperations>();
+builder.Services.AddScoped<VersionOperations>();
+builder.Services.AddScoped<EventOperations>();
 builder.Services.AddSingleton<ModelVersionCache>();
 builder.Services.AddSingleton<CompileSlots>();
 builder.Services.AddSingleton<TextEmbeddings>();

@@ -34,5 +34,14 @@ public sealed class ConsolePagingTests(ServerFixture fixture) : IClassFixture<Se
         Assert.Equal("Sessions 26–31 of 31, newest first.", await page.Locator(".pager span").InnerTextAsync());
         await page.GotoAsync(fixture.Server.BaseUrl + "/console?page=abc");
         Assert.Equal("Sessions 1–25 of 31, newest first.", await page.Locator(".pager span").InnerTextAsync());
+
+        // On a phone the wide tables scroll inside their own frames; the page itself is never wider than the screen.
+        await page.SetViewportSizeAsync(390, 844);
+        foreach (var (path, shot) in new[] { ("/console", "console-10-phone-onboarding"), ("/console/project", "console-11-phone-project") })
+        {
+            await page.GotoAsync(fixture.Server.BaseUrl + path);
+            Assert.True(await page.EvaluateAsync<bool>("() => document.documentElement.scrollWidth <= window.innerWidth"), $"{path} is wider than the phone");
+            await Browser.ShotAsync(page, shot);
+        }
     }
 }

@@ -54,31 +54,30 @@ public sealed class CompileBoundsTests
         using var app = new TestApp();
         var keys = await app.CreateProjectAsync();
         await UploadAsync(app.Client(keys.OwnerKey), keys, TestApp.ItemsJsonl());
-        VersionsApi.Snapshot snapshot;
+        VersionOperations.Snapshot snapshot;
         using (var scope = app.Services.CreateScope())
         {
             var db = scope.ServiceProvider.GetRequiredService<TeachServeDb>();
-            snapshot = await VersionsApi.ReadSnapshotAsync(db, await db.Projects.AsNoTracking().FirstAsync(p => p.Id == keys.ProjectId), embeddings: null, default);
+            snapshot = (await scope.ServiceProvider.GetRequiredService<VersionOperations>().ReadSnapshotAsync(await db.Projects.AsNoTracking().FirstAsync(p => p.Id == keys.ProjectId), default)).Value!;
         }
 
         var start = new TaskCompletionSource(TaskCreationOptions.RunContinuationsAsynchronously);
         var reservations = Enumerable.Range(0, 12).Select(i => Task.Run(async () =>
         {
             using var scope = app.Services.CreateScope();
-            var db = scope.ServiceProvider.GetRequiredService<TeachServeDb>();
             var own = i % 2 == 0 ? snapshot : snapshot with { Hash = Convert.ToHexStringLower(SHA256.HashData(Encoding.UTF8.GetBytes($"other-{i}"))) };
             await start.Task;
-            return (Own: own.Hash, Result: await VersionsApi.ReserveAsync(db, keys.ProjectId, own, 100, app.Time, default));
+            return (Own: own.Hash, Result: await scope.ServiceProvider.GetRequiredService<VersionOperations>().ReserveAsync(keys.ProjectId, own, 100, default));
         })).ToList();
         start.SetResult();
         var results = await Task.WhenAll(reservations);
 
-        var created = Assert.Single(results, r => r.Result.Kind == VersionsApi.ReservationKind.Created);
+        var created = Assert.Single(results, r => r.Result.Kind == VersionOperations.ReservationKind.Created);
         Assert.Equal(1, created.Result.Record!.Number);
-        foreach (var (own, result) in results.Where(r => r.Result.Kind != VersionsApi.ReservationKind.Created))
+        foreach (var (own, result) in results.Where(r => r.Result.Kind != VersionOperations.ReservationKind.Created))
         {
             // Same snapshot as the winner: its version; another snapshot: busy with the winner's compile.
-            var expected = own == created.Own ? VersionsApi.ReservationKind.Existing : VersionsApi.ReservationKind.Busy;
+            var expected = own == created.Own ? VersionOperations.ReservationKind.Existing : VersionOperations.ReservationKind.Busy;
             Assert.Equal(expected, result.Kind);
             if (result.Record is { } record) Assert.Equal(1, record.Number);
         }

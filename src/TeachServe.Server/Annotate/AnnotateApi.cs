@@ -41,7 +41,7 @@ public static class AnnotateApi
         var project = await db.Sessions.AsNoTracking().Where(s => s.Id == sessionId)
             .Join(db.Projects.AsNoTracking(), s => s.ProjectId, p => p.Id, (_, p) => p).FirstOrDefaultAsync(ct);
         if (project is null) return Problems.NotFound("No such session.");
-        var settings = ProjectsApi.Settings(project);
+        var settings = ProjectOperations.Settings(project);
         var guidance = settings.Guidance;
         var instructions = string.IsNullOrWhiteSpace(guidance?.Instructions) ? null : GuidanceMarkdown.ToHtml(guidance.Instructions);
         var labels = settings.Labels
@@ -63,7 +63,7 @@ public static class AnnotateApi
         var gate = version.Settings.Gate;
         // The ending's wording comes from the project as it is now, so an owner's edit reaches running sessions.
         var project = await db.Projects.AsNoTracking().FirstAsync(p => p.Id == session.ProjectId, ct);
-        var settings = ProjectsApi.Settings(project);
+        var settings = ProjectOperations.Settings(project);
         var completion = settings.Completion;
 
         // Which check this is and how far into it, so the page can announce every check and number its items from 1.

@@ -16,8 +16,8 @@ namespace TeachServe.Server.Demo;
 /// </summary>
 public sealed partial class DemoProject(
     IOptions<TeachServeOptions> options, IConfiguration configuration, TimeProvider time,
-    ModelVersionCache versions, SessionStateCache states, AnswerCommitLoop writer, Webhooks.WebhookSecrets secrets,
-    ILogger<DemoProject> logger) : IStartupStep
+    ProjectOperations projects, ItemOperations items, VersionOperations versions, ModelVersionCache compiledVersions,
+    SessionStateCache states, AnswerCommitLoop writer, ILogger<DemoProject> logger) : IStartupStep
 {
     public const string Setting = "demo-project";
     public const string FolderName = "weld-seams";
@@ -47,27 +47,20 @@ public sealed partial class DemoProject(
             return;
         }
 
-        var (project, keys) = await ProjectsApi.CreateAsync(db, time, secrets, new ProjectDocument(definition.Settings, null), ct);
-        var now = time.GetUtcNow();
-        db.Items.AddRange(definition.Items.Select(i => new Item
-        {
-            ProjectId = project.Id, ItemId = i.Id, Pool = i.Pool, Label = i.Label, Json = Json.Serialize(i), UpdatedAt = now,
-        }));
-        await db.SaveChangesAsync(ct);
-        var record = await VersionsApi.SnapshotAsync(db, project, time, ct);
-        var compiled = VersionCompiler.CompileInto(record, time, logger, ct);
+        var (project, keys) = await projects.CreateAsync(new ProjectDocument(definition.Settings, null), ct);
+        var stored = await items.StoreAsync(project.Id, definition.Settings, definition.Items, ct);
+        var compiled = stored.Succeeded ? await versions.CompileNowAsync(project, ct) : stored.Problem;
         db.ServerSettings.Add(new ServerSetting { Key = Setting, Value = project.Id });
         await db.SaveChangesAsync(ct);
-        if (compiled is null)
+        if (!compiled.Succeeded)
         {
-            banner.Add("Demo project", $"{project.Id}: compiling failed: {record.Error}");
+            banner.Add("Demo project", $"{project.Id}: not ready: {compiled.Problem.ProblemDetails.Detail}");
             return;
         }
-        versions.Put(compiled);
         // The demo link is read from the console later than a platform would hand one out: give it the token's lifetime.
-        var (_, session) = await SessionsApi.StartAsync(db, time, versions, states, writer, project.Id, DemoWorker, baseUrl, ct, o.SessionIdleTimeout);
+        var (_, session) = await SessionsApi.StartAsync(db, time, compiledVersions, states, writer, project.Id, DemoWorker, baseUrl, ct, o.SessionIdleTimeout);
 
-        banner.Add("Demo project", $"{project.Id}  ({definition.Settings.Name}, {definition.Items.Count} items, model version {record.Number})");
+        banner.Add("Demo project", $"{project.Id}  ({definition.Settings.Name}, {definition.Items.Count} items, model version {compiled.Value.Number})");
         banner.Add("Owner key", $"{keys.OwnerKey}   (shown once)");
         banner.Add("Embed key", $"{keys.EmbedKey}   (shown once)");
         banner.Add("Demo session", session.SessionId);

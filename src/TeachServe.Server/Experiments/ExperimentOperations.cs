@@ -27,7 +27,7 @@ public sealed class ExperimentOperations(TeachServeDb db, TimeProvider time)
             ControlArm = body.ControlArm,
             Salt = Ids.Base32(System.Security.Cryptography.RandomNumberGenerator.GetBytes(10)),
         };
-        var settings = ProjectsApi.Settings(project);
+        var settings = ProjectOperations.Settings(project);
         var problems = ExperimentValidator.Validate(definition, settings.Gate, settings.Labels.Count, settings.Learner.Lapse);
         if (problems.Count > 0) return Problems.Invalid("The experiment is not valid.", Fields(problems));
 
@@ -134,7 +134,7 @@ public sealed class ExperimentOperations(TeachServeDb db, TimeProvider time)
         var outcomes = await ExperimentOutcomes.LoadAsync(db, experiment, ct);
         // The project's cost settings price the arms' items.
         var project = await db.Projects.AsNoTracking().FirstOrDefaultAsync(p => p.Id == experiment.ProjectId, ct);
-        var options = project is null ? new ExperimentReportOptions() : new ExperimentReportOptions { Cost = ProjectsApi.Settings(project).Cost };
+        var options = project is null ? new ExperimentReportOptions() : new ExperimentReportOptions { Cost = ProjectOperations.Settings(project).Cost };
         return ExperimentReport.Compute(definition, outcomes, options);
     }
 

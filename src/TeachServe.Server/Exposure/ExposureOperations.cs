@@ -20,7 +20,7 @@ public sealed class ExposureOperations(TeachServeDb db, ModelVersionCache versio
         var number = await HotQueries.NewestReadyVersionAsync(db, projectId, ct);
         var target = number is { } n
             ? (await versions.GetAsync(projectId, n, ct)).Settings.Gate.Test.MaxExposure
-            : ProjectsApi.Settings(project).Gate.Test.MaxExposure;
+            : ProjectOperations.Settings(project).Gate.Test.MaxExposure;
 
         var (shown, tested) = await ExposureCounts.ReadAsync(db, projectId, ct);
         var testItems = await db.Items.AsNoTracking().Where(i => i.ProjectId == projectId && i.Pool == Pools.Test)

@@ -87,7 +87,7 @@ public sealed class FitOperations(TeachServeDb db, ModelVersionCache versions, T
             return Problems.Unprocessable($"The fitted values cannot be used as settings: {problem}.");
 
         var project = await db.Projects.FirstAsync(p => p.Id == fit.ProjectId, ct);
-        var settings = ProjectsApi.Settings(project);
+        var settings = ProjectOperations.Settings(project);
         project.SettingsJson = Json.Serialize(settings with { Learner = settings.Learner with { Alpha = alpha, Lapse = lapse } });
         var now = time.GetUtcNow();
         project.UpdatedAt = now;

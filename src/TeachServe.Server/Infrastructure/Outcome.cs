@@ -1,3 +1,4 @@
+using System.Diagnostics.CodeAnalysis;
 using Microsoft.AspNetCore.Http.HttpResults;
 
 namespace TeachServe.Server.Infrastructure;
@@ -5,7 +6,8 @@ namespace TeachServe.Server.Infrastructure;
 /// <summary>
 /// What an operation answers: its value, or the problem a client can act on (404, 409, 422, ...), returned rather than
 /// thrown. Endpoints turn it into their typed result with <see cref="Answer{TOk}"/>; other callers read
-/// <see cref="Value"/> or <see cref="Problem"/>.
+/// <see cref="Value"/> or <see cref="Problem"/> (the console shows its detail and its <c>errors</c> beside the form
+/// that caused it).
 /// </summary>
 public readonly struct Outcome<T>
 {
@@ -20,6 +22,8 @@ public readonly struct Outcome<T>
     /// <summary>Null when the operation succeeded.</summary>
     public ProblemHttpResult? Problem { get; }
 
+    [MemberNotNullWhen(true, nameof(Value))]
+    [MemberNotNullWhen(false, nameof(Problem))]
     public bool Succeeded => Problem is null;
 
     public static implicit operator Outcome<T>(T value) => new(value, null);

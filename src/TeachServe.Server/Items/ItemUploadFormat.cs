@@ -25,4 +25,13 @@ public static class ItemUploadFormats
             _ => null,
         };
     }
+
+    /// <summary>The format a file name's ending says (.jsonl or .ndjson, .json, .csv), or null.</summary>
+    public static ItemUploadFormat? FromFileName(string fileName) => Path.GetExtension(fileName).ToLowerInvariant() switch
+    {
+        ".jsonl" or ".ndjson" => ItemUploadFormat.JsonLines,
+        ".json" => ItemUploadFormat.JsonArray,
+        ".csv" => ItemUploadFormat.Csv,
+        _ => null,
+    };
 }

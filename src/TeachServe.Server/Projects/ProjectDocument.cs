@@ -1,6 +1,7 @@
 using System.Text.Json;
 using System.Text.Json.Nodes;
 using TeachServe.Core.Projects;
+using TeachServe.Server.Contract;
 using TeachServe.Server.Infrastructure;
 
 namespace TeachServe.Server.Projects;
@@ -13,20 +14,26 @@ public sealed record ProjectDocument(ProjectSettings Settings, ReleaseWebhookSet
 {
     public const string WebhookProperty = "releaseWebhook";
 
+    /// <summary>The document of a request body, or the problem with it (400 for its shape, 422 naming each invalid field).</summary>
     /// <param name="keptSecret">The webhook secret the project already has (on a patch); it is not checked again.</param>
-    public static ProjectDocument Parse(JsonNode? node, string? keptSecret = null)
+    public static Outcome<ProjectDocument> Parse(JsonNode? node, string? keptSecret = null)
     {
         if (node is not JsonObject obj)
-            throw ApiProblemException.BadRequest("The body must be a JSON object shaped like project.json.");
+            return Problems.BadRequest("The body must be a JSON object shaped like project.json.");
         obj = (JsonObject)obj.DeepClone();
         ReleaseWebhookSettings? webhook = null;
         if (obj.Remove(WebhookProperty, out var hook) && hook is not null)
-            webhook = Read<ReleaseWebhookSettings>(hook, WebhookProperty);
+        {
+            var read = Read<ReleaseWebhookSettings>(hook, WebhookProperty);
+            if (!read.Succeeded) return read.Problem;
+            webhook = read.Value;
+        }
         var settings = Read<ProjectSettings>(obj, "settings");
-        var document = new ProjectDocument(settings, webhook);
+        if (!settings.Succeeded) return settings.Problem;
+        var document = new ProjectDocument(settings.Value, webhook);
         var errors = SettingsRules.Check(document, keptSecret);
         if (errors.Count > 0)
-            throw ApiProblemException.Unprocessable("The project settings are not valid.").With("errors", errors);
+            return Problems.Unprocessable("The project settings are not valid.", new Dictionary<string, object?> { ["errors"] = errors });
         return document;
     }
 
@@ -53,16 +60,17 @@ public sealed record ProjectDocument(ProjectSettings Settings, ReleaseWebhookSet
         return result;
     }
 
-    private static T Read<T>(JsonNode node, string what)
+    private static Outcome<T> Read<T>(JsonNode node, string what)
     {
         try
         {
-            return node.Deserialize<T>(Json.Options)
-                ?? throw ApiProblemException.BadRequest($"'{what}' must not be null.");
+            return node.Deserialize<T>(Json.Options) is { } value
+                ? value
+                : Problems.BadRequest($"'{what}' must not be null.");
         }
         catch (JsonException e)
         {
-            throw ApiProblemException.BadRequest($"The {what} do not match the project.json shape: {ProblemText.Describe(e)}");
+            return Problems.BadRequest($"The {what} do not match the project.json shape: {ProblemText.Describe(e)}");
         }
     }
 }

@@ -1,10 +1,7 @@
 using Microsoft.AspNetCore.Http.HttpResults;
-using Microsoft.EntityFrameworkCore;
 using TeachServe.Server.Auth;
 using TeachServe.Server.Contract;
 using TeachServe.Server.Infrastructure;
-using TeachServe.Server.Persistence;
-using TeachServe.Server.Workers;
 
 namespace TeachServe.Server.Projects;
 
@@ -12,10 +9,9 @@ namespace TeachServe.Server.Projects;
 public sealed record KeyRotated(string ProjectId, string Kind, string Key, DateTimeOffset RotatedAt);
 
 /// <summary>
-/// Rotating and revoking a project's owner and embed keys. Only the key's hash is stored, and every request reads it
-/// from the database (no node caches it), so a change holds on every node from the next request on. Each change is
-/// an audit entry. A revoked key's hash is all zeros, which no key hashes to (SHA-256 preimage), so nothing matches
-/// it until the key is rotated again; an admin can rotate a lost or revoked owner key.
+/// Rotating and revoking a project's owner and embed keys (<see cref="ProjectOperations"/>). Only the key's hash is
+/// stored, and every request reads it from the database (no node caches it), so a change holds on every node from the
+/// next request on. Each change is an audit entry; an admin can rotate a lost or revoked owner key.
 /// </summary>
 public static class ProjectKeysApi
 {
@@ -39,48 +35,21 @@ public static class ProjectKeysApi
     }
 
     public static async Task<Results<Ok<KeyRotated>, ProblemHttpResult>> Rotate(
-        string projectId, string kind, HttpContext http, TeachServeDb db, TimeProvider time, CancellationToken ct)
+        string projectId, string kind, HttpContext http, ProjectOperations projects, CancellationToken ct)
     {
         if (KindProblem(kind) is { } problem) return problem;
-        return await RotateAsync(db, time, projectId, kind, Actor(http), ct) is { } rotated
+        return await projects.RotateKeyAsync(projectId, kind, Actor(http), ct) is { } rotated
             ? TypedResults.Ok(rotated)
             : Problems.NotFound("No such project.");
     }
 
     public static async Task<Results<NoContent, ProblemHttpResult>> Revoke(
-        string projectId, string kind, HttpContext http, TeachServeDb db, TimeProvider time, CancellationToken ct)
+        string projectId, string kind, HttpContext http, ProjectOperations projects, CancellationToken ct)
     {
         if (KindProblem(kind) is { } problem) return problem;
-        return await RevokeAsync(db, time, projectId, kind, Actor(http), ct)
+        return await projects.RevokeKeyAsync(projectId, kind, Actor(http), ct)
             ? TypedResults.NoContent()
             : Problems.NotFound("No such project.");
-    }
-
-    /// <summary>Replaces the key of <paramref name="kind"/> (owner or embed) and records who did it; null if there is no such project.</summary>
-    public static async Task<KeyRotated?> RotateAsync(TeachServeDb db, TimeProvider time, string projectId, string kind, string by, CancellationToken ct)
-    {
-        var project = await db.Projects.FirstOrDefaultAsync(p => p.Id == projectId, ct);
-        if (project is null) return null;
-        var key = kind == OwnerKind ? ApiKeys.NewOwnerKey(projectId) : ApiKeys.NewEmbedKey(projectId);
-        var now = time.GetUtcNow();
-        SetHash(project, kind, ApiKeys.Hash(key));
-        project.UpdatedAt = now;
-        db.Audit.Add(Entry(projectId, RotateAction, kind, by, now));
-        await db.SaveChangesAsync(ct);
-        return new KeyRotated(projectId, kind, key, now);
-    }
-
-    /// <summary>Revokes the key of <paramref name="kind"/> and records who did it; false if there is no such project.</summary>
-    public static async Task<bool> RevokeAsync(TeachServeDb db, TimeProvider time, string projectId, string kind, string by, CancellationToken ct)
-    {
-        var project = await db.Projects.FirstOrDefaultAsync(p => p.Id == projectId, ct);
-        if (project is null) return false;
-        var now = time.GetUtcNow();
-        SetHash(project, kind, new byte[32]);
-        project.UpdatedAt = now;
-        db.Audit.Add(Entry(projectId, RevokeAction, kind, by, now));
-        await db.SaveChangesAsync(ct);
-        return true;
     }
 
     private static string Actor(HttpContext http) => http.User.Role().ToString().ToLowerInvariant();
@@ -88,20 +57,4 @@ public static class ProjectKeysApi
     private static ProblemHttpResult? KindProblem(string kind) => kind is OwnerKind or EmbedKind
         ? null
         : Problems.BadRequest($"The key kind must be '{OwnerKind}' or '{EmbedKind}' (session tokens end with their session; the admin key is configured on the server).");
-
-    private static void SetHash(Project project, string kind, byte[] hash)
-    {
-        if (kind == OwnerKind) project.OwnerKeyHash = hash;
-        else project.EmbedKeyHash = hash;
-    }
-
-    /// <summary>The subject is the key (its kind), never the key's value or hash; the details say who acted (owner, admin, console).</summary>
-    private static AuditEntry Entry(string projectId, string action, string kind, string by, DateTimeOffset now) => new()
-    {
-        ProjectId = projectId,
-        Action = action,
-        SubjectHash = $"key:{kind}",
-        DetailsJson = Json.Serialize(new { kind, by }),
-        At = now,
-    };
 }

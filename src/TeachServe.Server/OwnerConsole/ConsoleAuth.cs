@@ -8,7 +8,6 @@ using TeachServe.Server.Infrastructure;
 using TeachServe.Server.Persistence;
 using TeachServe.Server.Projects;
 
-// The folder is Console/, but a namespace named Console would hide System.Console from the rest of the server.
 namespace TeachServe.Server.OwnerConsole;
 
 /// <summary>
