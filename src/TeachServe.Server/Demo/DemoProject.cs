@@ -16,7 +16,7 @@ namespace TeachServe.Server.Demo;
 /// </summary>
 public sealed partial class DemoProject(
     IOptions<TeachServeOptions> options, IConfiguration configuration, TimeProvider time,
-    ModelVersionCache versions, SessionStateCache states, AnswerCommitLoop writer, Webhooks.WebhookSecrets secrets,
+    ModelVersionCache versions, SessionOperations sessions, Webhooks.WebhookSecrets secrets,
     ILogger<DemoProject> logger) : IStartupStep
 {
     public const string Setting = "demo-project";
@@ -65,7 +65,12 @@ public sealed partial class DemoProject(
         }
         versions.Put(compiled);
         // The demo link is read from the console later than a platform would hand one out: give it the token's lifetime.
-        var (_, session) = await SessionsApi.StartAsync(db, time, versions, states, writer, project.Id, DemoWorker, baseUrl, ct, o.SessionIdleTimeout);
+        var start = await sessions.StartAsync(new StartSessionInput(project.Id, DemoWorker, baseUrl, ProjectKnown: true, o.SessionIdleTimeout), ct);
+        if (start.Value is not { Session: var session })
+        {
+            banner.Add("Demo project", $"{project.Id}: no demo session: {start.Refusal?.Detail}");
+            return;
+        }
 
         banner.Add("Demo project", $"{project.Id}  ({definition.Settings.Name}, {definition.Items.Count} items, model version {record.Number})");
         banner.Add("Owner key", $"{keys.OwnerKey}   (shown once)");

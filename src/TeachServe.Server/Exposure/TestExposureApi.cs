@@ -28,11 +28,11 @@ public static class TestExposureApi
     }
 
     public static async Task<Results<Ok<TestExposureReport>, ProblemHttpResult>> GetExposure(
-        string projectId, TeachServeDb db, ModelVersionCache versions, CancellationToken ct)
+        string projectId, TeachServeDb db, Sessions.Store.SessionReads reads, ModelVersionCache versions, CancellationToken ct)
     {
         var project = await db.Projects.AsNoTracking().FirstOrDefaultAsync(p => p.Id == projectId, ct);
         if (project is null) return Problems.NotFound("No such project.");
-        var number = await HotQueries.NewestReadyVersionAsync(db, projectId, ct);
+        var number = await reads.NewestReadyVersionAsync(db, projectId, ct);
         var target = number is { } n
             ? (await versions.GetAsync(projectId, n, ct)).Settings.Gate.Test.MaxExposure
             : ProjectsApi.Settings(project).Gate.Test.MaxExposure;

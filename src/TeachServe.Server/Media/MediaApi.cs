@@ -5,6 +5,7 @@ using Microsoft.OpenApi;
 using TeachServe.Server.Infrastructure;
 using TeachServe.Server.Persistence;
 using TeachServe.Server.Sessions;
+using TeachServe.Server.Sessions.Store;
 using TeachServe.Server.Contract;
 
 namespace TeachServe.Server.Media;
@@ -45,18 +46,18 @@ public static class MediaApi
     }
 
     public static async Task<Results<FileContentHttpResult, ProblemHttpResult>> GetImage(
-        string sessionId, string token, HttpResponse response, TeachServeDb db, SessionEngine engine, SessionStateCache states,
-        SqliteRowReader<Session> sessionRows, MediaFetcher fetcher, TimeProvider time, IOptions<TeachServeOptions> options,
+        string sessionId, string token, HttpResponse response, TeachServeDb db, SessionLoader loader, SessionStateCache states,
+        SessionReads reads, MediaFetcher fetcher, TimeProvider time, IOptions<TeachServeOptions> options,
         CancellationToken ct)
     {
         if (token.Length != MediaTokens.Length || sessionId.Length > 40) return Problems.NotFound("No such image.");
         string url;
         using (await states.LockAsync(sessionId, ct))
         {
-            var session = await HotQueries.SessionAsync(db, sessionRows, sessionId, ct);
+            var session = await reads.SessionAsync(db, sessionId, ct);
             if (session is null || !session.IsActive || time.GetUtcNow() - session.LastSeenAt > options.Value.SessionIdleTimeout)
                 return Problems.NotFound("No such image.");
-            var (version, run) = await engine.LoadAsync(db, session, ct);
+            var (version, run) = await loader.LoadAsync(db, session, ct);
             var item = run.CurrentItem;
             if (item < version.Model.TeachCount || version.Content[item].ImageUrl is not { } imageUrl
                 || !MediaTokens.Matches(session.RefKey, session.Step, item, token))
