@@ -22,8 +22,11 @@ public sealed class SessionRowFeatureTests
         var keys = await app.ReadyProjectAsync();
         var s = await app.StartSessionAsync(keys);
 
-        using var scope = app.Services.CreateScope();
-        var annotator = await AuthenticateAsync(scope, s.Token);
+        // One scope per request, as the server has: the authentication handler keeps its result for the request.
+        using var first = app.Services.CreateScope();
+        using var second = app.Services.CreateScope();
+        using var third = app.Services.CreateScope();
+        var annotator = await AuthenticateAsync(first, s.Token);
         Assert.True(annotator.Result.Succeeded);
         var row = SessionRowFeature.Of(annotator.Http);
         Assert.NotNull(row);
@@ -31,10 +34,10 @@ public sealed class SessionRowFeatureTests
         Assert.Equal(keys.ProjectId, row.ProjectId);
         Assert.Equal(0, row.Step);
 
-        var owner = await AuthenticateAsync(scope, keys.OwnerKey);
+        var owner = await AuthenticateAsync(second, keys.OwnerKey);
         Assert.True(owner.Result.Succeeded);
         Assert.Null(SessionRowFeature.Of(owner.Http));
-        var wrong = await AuthenticateAsync(scope, s.Token + "x");
+        var wrong = await AuthenticateAsync(third, s.Token + "x");
         Assert.False(wrong.Result.Succeeded);
         Assert.Null(SessionRowFeature.Of(wrong.Http));
     }
