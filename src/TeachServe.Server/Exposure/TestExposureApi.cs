@@ -6,7 +6,7 @@ using TeachServe.Server.Auth;
 using TeachServe.Server.Infrastructure;
 using TeachServe.Server.Persistence;
 using TeachServe.Server.Projects;
-using TeachServe.Server.Sessions;
+using TeachServe.Server.Sessions.Store;
 using TeachServe.Server.Versions;
 
 namespace TeachServe.Server.Exposure;
@@ -28,7 +28,7 @@ public static class TestExposureApi
     }
 
     public static async Task<Results<Ok<TestExposureReport>, ProblemHttpResult>> GetExposure(
-        string projectId, TeachServeDb db, Sessions.Store.SessionReads reads, ModelVersionCache versions, CancellationToken ct)
+        string projectId, TeachServeDb db, SessionReads reads, ModelVersionCache versions, CancellationToken ct)
     {
         var project = await db.Projects.AsNoTracking().FirstOrDefaultAsync(p => p.Id == projectId, ct);
         if (project is null) return Problems.NotFound("No such project.");
