@@ -58,19 +58,19 @@ public static class SessionsApi
 
     public static async Task<Results<Ok<NextItem>, ProblemHttpResult>> GetNext(
         string sessionId, HttpContext http, SessionOperations sessions, IOptions<TeachServeOptions> options, CancellationToken ct) =>
-        Answer(await sessions.NextAsync(sessionId, SessionRowFeature.Of(http), BaseUrl(http.Request, options.Value), ct));
+        Respond(await sessions.NextAsync(sessionId, SessionRowFeature.Of(http), BaseUrl(http.Request, options.Value), ct));
 
     public static async Task<Results<Ok<AnswerResult>, ProblemHttpResult>> PostAnswer(
         string sessionId, AnswerRequest body, HttpContext http, SessionOperations sessions, CancellationToken ct) =>
-        Answer(await sessions.AnswerAsync(sessionId, body, SessionRowFeature.Of(http), ct));
+        Respond(await sessions.AnswerAsync(sessionId, body, SessionRowFeature.Of(http), ct));
 
     public static async Task<Results<Ok<SessionView>, ProblemHttpResult>> GetSession(
         string sessionId, HttpContext http, SessionOperations sessions, CancellationToken ct) =>
-        Answer(await sessions.ViewAsync(sessionId, http.User.Role(), http.User.ProjectId(), ct));
+        Respond(await sessions.ViewAsync(sessionId, http.User.Role(), http.User.ProjectId(), ct));
 
     public static async Task<Results<Ok<SessionPage>, ProblemHttpResult>> ListSessions(
         string projectId, string? phase, string? cursor, int? limit, SessionOperations sessions, CancellationToken ct) =>
-        Answer(await sessions.ListAsync(projectId, phase, cursor, limit, ct));
+        Respond(await sessions.ListAsync(projectId, phase, cursor, limit, ct));
 
     public static async Task<Results<ContentHttpResult, ProblemHttpResult>> ExportSessionsCsv(
         string projectId, HttpResponse response, SessionOperations sessions, CancellationToken ct)
@@ -81,6 +81,6 @@ public static class SessionsApi
         return TypedResults.Text(csv, "text/csv; charset=utf-8");
     }
 
-    private static Results<Ok<T>, ProblemHttpResult> Answer<T>(SessionOutcome<T> outcome) where T : class =>
+    private static Results<Ok<T>, ProblemHttpResult> Respond<T>(SessionOutcome<T> outcome) where T : class =>
         outcome.Value is { } value ? TypedResults.Ok(value) : outcome.Refusal!.Problem();
 }
