@@ -16,6 +16,7 @@ using TeachServe.Server.Persistence;
 using TeachServe.Server.Projects;
 using TeachServe.Server.Releases;
 using TeachServe.Server.Sessions;
+using TeachServe.Server.Sessions.Store;
 using TeachServe.Server.Simulations;
 using TeachServe.Server.Versions;
 using TeachServe.Server.Webhooks;
@@ -41,8 +42,8 @@ builder.Services.AddPersistence();
 builder.Services.AddSingleton<StartupState>();
 builder.Services.AddSingleton<ReadinessProbe>();
 // The single writer starts first: the start-up tasks may already write through it (the demo project's session).
-builder.Services.AddSingleton<AnswerCommitLoop>();
-builder.Services.AddHostedService(sp => sp.GetRequiredService<AnswerCommitLoop>());
+builder.Services.AddSingleton<GroupCommitWriter>();
+builder.Services.AddHostedService(sp => sp.GetRequiredService<GroupCommitWriter>());
 builder.Services.AddSingleton(_ => new StartupBanner(Console.Out));
 builder.Services.AddHostedService<StartupTasks>();
 
@@ -79,10 +80,9 @@ builder.Services.AddHostedService(sp => sp.GetRequiredService<VersionCompileQueu
 builder.Services.AddScoped<IStartupStep>(sp => sp.GetRequiredService<VersionCompileQueue>());
 builder.Services.AddScoped<IStartupStep, DemoProject>();
 builder.Services.AddSingleton<SessionStateCache>();
-builder.Services.AddScoped<AuthenticatedSession>();
-builder.Services.AddSingleton(typeof(SqliteRowReader<>));
-builder.Services.AddSingleton<SessionEngine>();
-builder.Services.AddScoped<AnswerWriter>();
+builder.Services.AddSingleton(sp => SessionReads.For(sp.GetRequiredService<IOptions<TeachServeOptions>>().Value, sp.GetRequiredService<IServiceScopeFactory>()));
+builder.Services.AddSingleton<SessionLoader>();
+builder.Services.AddScoped<SessionOperations>();
 builder.Services.AddSingleton<OutboxSignal>();
 builder.Services.AddSingleton<WebhookSecrets>();
 builder.Services.AddScoped<IStartupStep, WebhookSecretsAtRest>();

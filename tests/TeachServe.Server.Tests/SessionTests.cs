@@ -279,7 +279,7 @@ public sealed class SessionTests
         var session = await db.Sessions.AsNoTracking().SingleAsync(x => x.Id == s.SessionId);
         Assert.True(app.Service<SessionStateCache>().TryGet(s.SessionId, session.Step, out var live));
         var version = await app.Service<ModelVersionCache>().GetAsync(keys.ProjectId, session.ModelVersion, default);
-        var rebuilt = await SessionEngine.ReplayAsync(db, version, session, default);
+        var rebuilt = await SessionLoader.ReplayAsync(db, version, session, default);
         Assert.Equal(live.Step, rebuilt.Step);
         Assert.Equal(live.CurrentItem, rebuilt.CurrentItem);
         Assert.Equal(live.Phase, rebuilt.Phase);

@@ -52,14 +52,14 @@ public static class AnnotateApi
     }
 
     public static async Task<Results<Ok<AnnotatorPageState>, ProblemHttpResult>> GetPageState(
-        string sessionId, HttpRequest http, TeachServeDb db, SessionEngine engine, SessionStateCache states, AuthenticatedSession authenticated,
+        string sessionId, HttpRequest http, TeachServeDb db, SessionOperations sessions, SessionLoader loader, SessionStateCache states,
         ModelVersionCache versions, IOptions<AnnotateOptions> options, IOptions<TeachServeOptions> server, CancellationToken ct)
     {
-        var next = await SessionsApi.GetNext(sessionId, http, db, engine, states, authenticated, server, ct);
-        if (next.Result is not Ok<NextItem> { Value: { } current }) return (ProblemHttpResult)next.Result;
+        var next = await sessions.NextAsync(sessionId, SessionRowFeature.Of(http.HttpContext), SessionsApi.BaseUrl(http, server.Value), ct);
+        if (next.Value is not { } current) return next.Refusal!.Problem();
         var session = await db.Sessions.AsNoTracking().FirstAsync(s => s.Id == sessionId, ct);
         var version = await versions.GetAsync(session.ProjectId, session.ModelVersion, ct);
-        var view = SessionsApi.View(session, forAnnotator: true);
+        var view = SessionViews.Of(session, forAnnotator: true);
         var gate = version.Settings.Gate;
         // The ending's wording comes from the project as it is now, so an owner's edit reaches running sessions.
         var project = await db.Projects.AsNoTracking().FirstAsync(p => p.Id == session.ProjectId, ct);
@@ -71,7 +71,7 @@ public static class AnnotateApi
         int attempt = 1, attemptAnswered = 0;
         if (current.Phase == Phases.Testing)
         {
-            if (!states.TryGet(sessionId, current.Step, out var run)) (_, run) = await engine.LoadAsync(db, session, ct);
+            if (!states.TryGet(sessionId, current.Step, out var run)) (_, run) = await loader.LoadAsync(db, session, ct);
             attempt = run.RetakesUsed + 1;
             attemptAnswered = run.AttemptTestAnswered;
         }

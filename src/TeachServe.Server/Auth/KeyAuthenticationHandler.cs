@@ -22,6 +22,7 @@ public sealed class KeyAuthenticationHandler(
         if (!header.StartsWith("Bearer ", StringComparison.OrdinalIgnoreCase))
             return AuthenticateResult.Fail("Use 'Authorization: Bearer <key>'.");
         var check = await resolver.CheckAsync(header["Bearer ".Length..].Trim(), Context.RequestAborted);
+        if (check.SessionRow is { } row) Context.Features.Set(new SessionRowFeature(row));
         return check.Principal is { } principal
             ? AuthenticateResult.Success(new AuthenticationTicket(principal, SchemeName))
             : AuthenticateResult.Fail(check.Failure!);

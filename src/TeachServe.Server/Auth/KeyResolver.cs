@@ -3,13 +3,14 @@ using Microsoft.EntityFrameworkCore;
 using Microsoft.Extensions.Options;
 using TeachServe.Server.Infrastructure;
 using TeachServe.Server.Persistence;
+using TeachServe.Server.Sessions;
+using TeachServe.Server.Sessions.Store;
 
 namespace TeachServe.Server.Auth;
 
 /// <summary>Turns a presented bearer key into a principal, or says why it cannot.</summary>
 public sealed class KeyResolver(
-    TeachServeDb db, AdminKeyStore admin, TimeProvider time, IOptions<TeachServeOptions> options, Sessions.AuthenticatedSession authenticated,
-    SqliteRowReader<Sessions.Session> sessionRows, SqliteRowReader<Projects.Project> projectRows)
+    TeachServeDb db, AdminKeyStore admin, TimeProvider time, IOptions<TeachServeOptions> options, SessionReads reads)
 {
     /// <summary>A session's last-seen time is written at most this often by reads (answers always write it).</summary>
     private static readonly TimeSpan TouchInterval = TimeSpan.FromMinutes(1);
@@ -28,7 +29,7 @@ public sealed class KeyResolver(
             case ApiKeys.OwnerPrefix or ApiKeys.EmbedPrefix:
             {
                 if (!Ids.LooksLike(id, "prj_")) return KeyCheck.Invalid;
-                var hashes = await Sessions.HotQueries.ProjectKeysAsync(db, projectRows, id!, ct);
+                var hashes = await reads.ProjectKeysAsync(db, id!, ct);
                 if (hashes is null) return KeyCheck.Invalid;
                 var owner = prefix == ApiKeys.OwnerPrefix;
                 return ApiKeys.Matches(key, owner ? hashes.OwnerKeyHash : hashes.EmbedKeyHash)
@@ -39,15 +40,14 @@ public sealed class KeyResolver(
             default:
             {
                 if (!Ids.LooksLike(id, "ses_")) return KeyCheck.Invalid;
-                var s = await Sessions.HotQueries.SessionAsync(db, sessionRows, id!, ct);
+                var s = await reads.SessionAsync(db, id!, ct);
                 if (s is null || !ApiKeys.Matches(key, s.TokenHash)) return KeyCheck.Invalid;
                 var now = time.GetUtcNow();
                 if (now - s.LastSeenAt > options.Value.SessionIdleTimeout) return KeyCheck.Expired;
                 if (now - s.LastSeenAt > TouchInterval)
                     await db.Sessions.Where(x => x.Id == id).ExecuteUpdateAsync(u => u.SetProperty(x => x.LastSeenAt, now), ct);
                 // The whole row is read (one query instead of two per annotator request); the endpoint reuses it.
-                authenticated.Row = s;
-                return KeyCheck.Ok(Principal(KeyRole.Session, s.ProjectId, id, $"{prefix}:{id}"));
+                return KeyCheck.Ok(Principal(KeyRole.Session, s.ProjectId, id, $"{prefix}:{id}"), s);
             }
         }
     }
@@ -61,9 +61,10 @@ public sealed class KeyResolver(
     }
 }
 
-public sealed record KeyCheck(ClaimsPrincipal? Principal, string? Failure)
+/// <summary>The outcome of a key check; for a session token also the session row it read.</summary>
+public sealed record KeyCheck(ClaimsPrincipal? Principal, string? Failure, Session? SessionRow = null)
 {
     public static readonly KeyCheck Invalid = new(null, "The key is not valid.");
     public static readonly KeyCheck Expired = new(null, "The session token has expired after being idle; ask the platform for a new link.");
-    public static KeyCheck Ok(ClaimsPrincipal principal) => new(principal, null);
+    public static KeyCheck Ok(ClaimsPrincipal principal, Session? sessionRow = null) => new(principal, null, sessionRow);
 }

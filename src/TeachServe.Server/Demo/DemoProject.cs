@@ -15,9 +15,9 @@ namespace TeachServe.Server.Demo;
 /// the keys and the annotator link in the start-up banner. Later starts only say that it is there.
 /// </summary>
 public sealed partial class DemoProject(
-    IOptions<TeachServeOptions> options, IConfiguration configuration, TimeProvider time,
-    ProjectOperations projects, ItemOperations items, VersionOperations versions, ModelVersionCache compiledVersions,
-    SessionStateCache states, AnswerCommitLoop writer, ILogger<DemoProject> logger) : IStartupStep
+    IOptions<TeachServeOptions> options, IConfiguration configuration,
+    ProjectOperations projects, ItemOperations items, VersionOperations versions, SessionOperations sessions,
+    ILogger<DemoProject> logger) : IStartupStep
 {
     public const string Setting = "demo-project";
     public const string FolderName = "weld-seams";
@@ -58,7 +58,12 @@ public sealed partial class DemoProject(
             return;
         }
         // The demo link is read from the console later than a platform would hand one out: give it the token's lifetime.
-        var (_, session) = await SessionsApi.StartAsync(db, time, compiledVersions, states, writer, project.Id, DemoWorker, baseUrl, ct, o.SessionIdleTimeout);
+        var start = await sessions.StartAsync(new StartSessionInput(project.Id, DemoWorker, baseUrl, ProjectKnown: true, o.SessionIdleTimeout), ct);
+        if (start.Value is not { Session: var session })
+        {
+            banner.Add("Demo project", $"{project.Id}: no demo session: {start.Refusal?.Detail}");
+            return;
+        }
 
         banner.Add("Demo project", $"{project.Id}  ({definition.Settings.Name}, {definition.Items.Count} items, model version {compiled.Value.Number})");
         banner.Add("Owner key", $"{keys.OwnerKey}   (shown once)");

@@ -8,9 +8,9 @@ namespace TeachServe.Server.Experiments;
 /// <summary>Assigns a starting session to an arm of the project's running experiment, if there is one.</summary>
 public static class ExperimentArms
 {
-    public static async Task<AssignedArm?> AssignAsync(TeachServeDb db, string projectId, string workerRef, CancellationToken ct)
+    public static async Task<AssignedArm?> AssignAsync(Sessions.Store.SessionReads reads, TeachServeDb db, string projectId, string workerRef, CancellationToken ct)
     {
-        var running = await Sessions.HotQueries.RunningExperimentAsync(db, projectId, ct);
+        var running = await reads.RunningExperimentAsync(db, projectId, ct);
         if (running is null) return null;
         var definition = Definition(running);
         var index = ArmAssignment.Assign(definition.Salt, workerRef, definition.AllocationWeights());

@@ -4,20 +4,20 @@ using TeachServe.Core.Teaching;
 using TeachServe.Server.Infrastructure;
 using TeachServe.Server.Persistence;
 using TeachServe.Server.Projects;
-using TeachServe.Server.Sessions;
+using TeachServe.Server.Sessions.Store;
 using TeachServe.Server.Versions;
 
 namespace TeachServe.Server.Exposure;
 
 /// <summary>Reads how often each test item has been shown. Problems are returned, not thrown.</summary>
-public sealed class ExposureOperations(TeachServeDb db, ModelVersionCache versions)
+public sealed class ExposureOperations(TeachServeDb db, SessionReads reads, ModelVersionCache versions)
 {
     /// <summary>Each test item's exposure, most exposed first, with the target and administration probability starting sessions get.</summary>
     public async Task<Outcome<TestExposureReport>> ReportAsync(string projectId, CancellationToken ct)
     {
         var project = await db.Projects.AsNoTracking().FirstOrDefaultAsync(p => p.Id == projectId, ct);
         if (project is null) return Problems.NotFound("No such project.");
-        var number = await HotQueries.NewestReadyVersionAsync(db, projectId, ct);
+        var number = await reads.NewestReadyVersionAsync(db, projectId, ct);
         var target = number is { } n
             ? (await versions.GetAsync(projectId, n, ct)).Settings.Gate.Test.MaxExposure
             : ProjectOperations.Settings(project).Gate.Test.MaxExposure;

@@ -2,6 +2,7 @@ using Microsoft.Extensions.Options;
 using TeachServe.Server.Infrastructure;
 using TeachServe.Server.Persistence;
 using TeachServe.Server.Sessions;
+using TeachServe.Server.Sessions.Store;
 
 namespace TeachServe.Server.Media;
 
@@ -11,7 +12,7 @@ namespace TeachServe.Server.Media;
 /// timeout, and only for the test item of the session's current step; anything else is 404 alike.
 /// </summary>
 public sealed class MediaOperations(
-    TeachServeDb db, SessionEngine engine, SessionStateCache states, SqliteRowReader<Session> sessionRows, MediaFetcher fetcher,
+    TeachServeDb db, SessionLoader loader, SessionStateCache states, SessionReads reads, MediaFetcher fetcher,
     TimeProvider time, IOptions<TeachServeOptions> options)
 {
     /// <summary>The image of the session's current test item, fetched from its host; problems never name the host's address.</summary>
@@ -21,10 +22,10 @@ public sealed class MediaOperations(
         string url;
         using (await states.LockAsync(sessionId, ct))
         {
-            var session = await HotQueries.SessionAsync(db, sessionRows, sessionId, ct);
+            var session = await reads.SessionAsync(db, sessionId, ct);
             if (session is null || !session.IsActive || time.GetUtcNow() - session.LastSeenAt > options.Value.SessionIdleTimeout)
                 return NoSuchImage();
-            var (version, run) = await engine.LoadAsync(db, session, ct);
+            var (version, run) = await loader.LoadAsync(db, session, ct);
             var item = run.CurrentItem;
             if (item < version.Model.TeachCount || version.Content[item].ImageUrl is not { } imageUrl
                 || !MediaTokens.Matches(session.RefKey, session.Step, item, token))

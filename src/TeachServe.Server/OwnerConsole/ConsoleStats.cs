@@ -67,7 +67,7 @@ public static class ConsoleStats
         var pageRows = page == 1 ? recent.Take(RecentRows).ToList()
             : await sessions.OrderByDescending(s => s.CreatedAt).ThenByDescending(s => s.Id).Skip((page - 1) * RecentRows).Take(RecentRows).ToListAsync(ct);
         var rows = pageRows
-            .Select(s => new SessionRow(SessionsApi.View(s, forAnnotator: false), s.EndedAt is { } end ? end - s.CreatedAt : null))
+            .Select(s => new SessionRow(SessionViews.Of(s, forAnnotator: false), s.EndedAt is { } end ? end - s.CreatedAt : null))
             .ToList();
 
         var ended = released + failed;

@@ -3,7 +3,7 @@ using System.Threading.Channels;
 using Microsoft.EntityFrameworkCore;
 using TeachServe.Server.Persistence;
 
-namespace TeachServe.Server.Sessions;
+namespace TeachServe.Server.Sessions.Store;
 
 /// <summary>One unit of work for the single writer: rows to append, committed together or not at all.</summary>
 public abstract class PendingWrite
@@ -14,7 +14,7 @@ public abstract class PendingWrite
 }
 
 /// <summary>
-/// The rows of one answer, computed by <see cref="AnswerWriter"/> and waiting for the single writer: the new
+/// The rows of one answer, computed by <see cref="SessionOperations.AnswerAsync"/> and waiting for the single writer: the new
 /// summary of the session row (written only if the row is still at <see cref="FromStep"/>) and the rows to
 /// append (answer event, and on the gate's decision the end event, release and webhook outbox row).
 /// </summary>
@@ -42,7 +42,8 @@ public sealed class PendingAnswer : PendingWrite
 public sealed class PendingRows : PendingWrite;
 
 /// <summary>
-/// The single writer of the annotator hot path, with group commit. Requests put a <see cref="PendingWrite"/> on a
+/// The single writer of the annotator hot path, with group commit: every answer and every new session (its row,
+/// launch code and start event) is written here. Requests put a <see cref="PendingWrite"/> on a
 /// channel and wait; one loop, on a thread of its own, takes every write that is waiting (up to
 /// <see cref="MaxBatch"/>), applies them in order in one transaction, commits, and only then completes each
 /// request: true when its rows are durable, false when its step had already moved on (an earlier write of the
@@ -53,10 +54,10 @@ public sealed class PendingRows : PendingWrite;
 /// read" (<see cref="Session.Step"/> is the optimistic-concurrency token), and an answer that updates nothing
 /// appends nothing. Every write still is its own unit: when a batch fails (one bad write such as a second active
 /// session for a worker, or the database going away), its writes are retried one transaction each, so one cannot
-/// fail the others. The SQL comes from <see cref="WriterStatements"/>: prepared once, provider-neutral.
+/// fail the others. The SQL comes from <see cref="PreparedWrites"/>: prepared once, provider-neutral.
 /// </para>
 /// </summary>
-public sealed partial class AnswerCommitLoop(IServiceScopeFactory scopes, ILogger<AnswerCommitLoop> logger) : IHostedService, IDisposable
+public sealed partial class GroupCommitWriter(IServiceScopeFactory scopes, ILogger<GroupCommitWriter> logger) : IHostedService, IDisposable
 {
     public const int MaxBatch = 256;
     private readonly Channel<PendingWrite> _queue = Channel.CreateBounded<PendingWrite>(
@@ -64,7 +65,7 @@ public sealed partial class AnswerCommitLoop(IServiceScopeFactory scopes, ILogge
     private readonly CancellationTokenSource _stopping = new();
     private Thread? _thread;
     private int _disposed;
-    private WriterStatements? _statements;
+    private PreparedWrites? _statements;
 
     /// <summary>Queues the write and completes after its commit: true if written, false if its step was taken.</summary>
     public async Task<bool> CommitAsync(PendingWrite write, CancellationToken ct)
@@ -168,7 +169,7 @@ public sealed partial class AnswerCommitLoop(IServiceScopeFactory scopes, ILogge
     /// </summary>
     private bool[] WriteTogether(List<PendingWrite> batch)
     {
-        var sql = _statements ??= new WriterStatements(scopes);
+        var sql = _statements ??= new PreparedWrites(scopes);
         var written = new bool[batch.Count];
         using var tx = sql.Begin();
         for (var i = 0; i < batch.Count; i++) written[i] = Apply(sql, batch[i], tx);
@@ -179,14 +180,14 @@ public sealed partial class AnswerCommitLoop(IServiceScopeFactory scopes, ILogge
     /// <summary>One write in its own transaction; false when the session's step has moved on (or the row is gone).</summary>
     private bool WriteOne(PendingWrite write)
     {
-        var sql = _statements ??= new WriterStatements(scopes);
+        var sql = _statements ??= new PreparedWrites(scopes);
         using var tx = sql.Begin();
         var written = Apply(sql, write, tx);
         tx.Commit();
         return written;
     }
 
-    private static bool Apply(WriterStatements sql, PendingWrite write, DbTransaction tx)
+    private static bool Apply(PreparedWrites sql, PendingWrite write, DbTransaction tx)
     {
         if (write is PendingAnswer answer && !sql.Update(answer, tx)) return false;
         foreach (var row in write.Rows) sql.Insert(row, tx);
@@ -203,7 +204,7 @@ public sealed partial class AnswerCommitLoop(IServiceScopeFactory scopes, ILogge
         _statements = null;
     }
 
-    /// <summary>Timing log for profiling the writer: <c>Logging__LogLevel__TeachServe.Server.Sessions.AnswerCommitLoop=Debug</c>.</summary>
+    /// <summary>Timing log for profiling the writer: <c>Logging__LogLevel__TeachServe.Server.Sessions.Store.GroupCommitWriter=Debug</c>.</summary>
     [LoggerMessage(Level = LogLevel.Debug, Message = "Committed a batch of {Count} writes in {Milliseconds:0.0} ms")]
     private static partial void LogBatch(ILogger logger, int count, double milliseconds);
 

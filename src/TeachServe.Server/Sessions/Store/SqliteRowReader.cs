@@ -5,13 +5,15 @@ using Microsoft.EntityFrameworkCore;
 using Microsoft.EntityFrameworkCore.Infrastructure;
 using Microsoft.EntityFrameworkCore.Metadata;
 using Microsoft.EntityFrameworkCore.Storage;
-namespace TeachServe.Server.Persistence;
+using TeachServe.Server.Persistence;
+
+namespace TeachServe.Server.Sessions.Store;
 
 /// <summary>
 /// A read of one row by its (single, string) primary key on SQLite, without EF's per-query work: a pool of open
 /// connections, each with the SELECT prepared once, and a materializer built from the EF model (so the model
-/// stays the one description of the columns). Used for the reads of the annotator paths: the session row on every
-/// request, the project row at every session start and end. Profiling the load harness showed an EF compiled query
+/// stays the one description of the columns). <see cref="SessionReads"/> uses it on SQLite for the reads by key of the
+/// annotator paths: the session row on every request, the project row at every session start and end. Profiling the load harness showed an EF compiled query
 /// at about 90–170 µs of CPU a read, most of it opening and closing the pooled connection and SQLite parsing the
 /// same SQL again; here a read is a bind, a B-tree lookup and the column reads. SQLite connections are in-process
 /// and cheap to keep open; on PostgreSQL, whose connections are server processes, EF and Npgsql's pool are used.

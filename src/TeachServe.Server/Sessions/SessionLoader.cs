@@ -10,7 +10,7 @@ using TeachServe.Server.Versions;
 namespace TeachServe.Server.Sessions;
 
 /// <summary>Gets a session's engine state: from the per-node cache, or by replaying its answer events on its model version.</summary>
-public sealed class SessionEngine(ModelVersionCache versions, SessionStateCache states)
+public sealed class SessionLoader(ModelVersionCache versions, SessionStateCache states)
 {
     /// <param name="testAdministration">The exposure-control K the session started with (see <see cref="Exposure.ExposureCounts"/>).</param>
     public static SessionOptions Options(CompiledVersion version, Session session, IReadOnlyList<double>? testAdministration)
@@ -45,37 +45,4 @@ public sealed class SessionEngine(ModelVersionCache versions, SessionStateCache 
             throw new InvalidOperationException($"Session {session.Id} has {run.Step} answer events but is at step {session.Step}.");
         return run;
     }
-
-    public static string PhaseName(SessionPhase phase) => phase switch
-    {
-        SessionPhase.Teaching => Phases.Teaching,
-        SessionPhase.Testing => Phases.Testing,
-        SessionPhase.Released => Phases.Released,
-        _ => Phases.Failed,
-    };
-
-    public static EvidenceView Evidence(CompiledVersion version, SessionRun run)
-    {
-        var e = run.Evidence();
-        return new EvidenceView(
-            PhaseName(e.Phase),
-            e.TaughtItems.Count,
-            e.TaughtItems.Select(i => version.Model.ItemIds[i]).ToList(),
-            e.TestAnswered,
-            e.TestErrors,
-            Finite(e.TestErrorRate),
-            double.IsFinite(e.TestErrorInterval.Low) && double.IsFinite(e.TestErrorInterval.High)
-                ? new IntervalView(e.TestErrorInterval.Low, e.TestErrorInterval.High)
-                : null,
-            e.PredictedError,
-            e.Confidence,
-            e.RetakesUsed,
-            version.Number,
-            e.Policy,
-            e.Attempts.Select(a => new AttemptView(a.Attempt + 1, a.Answered, a.Errors, a.CountedAnswered, a.CountedErrors, a.Passed)).ToList());
-    }
-
-    private static double? Finite(double x) => double.IsFinite(x) ? x : null;
-
-    public static string EvidenceJson(EvidenceView evidence) => Json.Serialize(evidence);
 }

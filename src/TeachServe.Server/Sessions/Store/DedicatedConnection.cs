@@ -1,7 +1,8 @@
 using System.Data.Common;
 using Microsoft.EntityFrameworkCore;
+using TeachServe.Server.Persistence;
 
-namespace TeachServe.Server.Persistence;
+namespace TeachServe.Server.Sessions.Store;
 
 /// <summary>
 /// A database connection kept open for one long-lived user (the single writer, a pooled hot read), with the

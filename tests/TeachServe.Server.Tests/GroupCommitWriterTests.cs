@@ -3,10 +3,11 @@ using Microsoft.Extensions.DependencyInjection;
 using TeachServe.Server.Events;
 using TeachServe.Server.Persistence;
 using TeachServe.Server.Sessions;
+using TeachServe.Server.Sessions.Store;
 
 namespace TeachServe.Server.Tests;
 
-public sealed class AnswerCommitLoopTests
+public sealed class GroupCommitWriterTests
 {
     [Fact]
     public async Task Writes_of_one_step_resolve_as_if_sequential_one_wins_and_only_its_rows_are_stored()
@@ -14,7 +15,7 @@ public sealed class AnswerCommitLoopTests
         using var app = new TestApp();
         var keys = await app.ReadyProjectAsync();
         var s = await app.StartSessionAsync(keys);
-        var loop = app.Service<AnswerCommitLoop>();
+        var loop = app.Service<GroupCommitWriter>();
         var now = app.Time.GetUtcNow();
         PendingAnswer Write(string label) => new()
         {

@@ -6,17 +6,17 @@ using Microsoft.EntityFrameworkCore.Metadata;
 using Microsoft.EntityFrameworkCore.Storage;
 using TeachServe.Server.Persistence;
 
-namespace TeachServe.Server.Sessions;
+namespace TeachServe.Server.Sessions.Store;
 
 /// <summary>
-/// The single writer's SQL: plain ADO.NET commands on one long-lived connection, each prepared once and run
+/// The group-commit writer's SQL (<see cref="GroupCommitWriter"/>): plain ADO.NET commands on one long-lived connection, each prepared once and run
 /// again with new parameter values. Built from the EF Core model (table and column names, and each column's
 /// type mapping, which makes the parameters exactly as EF would), so the model stays the one description of
 /// the schema and both providers are served by the same code. Profiling showed why: through SaveChanges an answer
 /// cost about 0.3 ms of CPU in change tracking, SQL generation and SQLite parsing a new batch text each time;
 /// prepared statements leave the binding and the B-tree work.
 /// </summary>
-public sealed class WriterStatements : IDisposable
+public sealed class PreparedWrites : IDisposable
 {
     private readonly DedicatedConnection _open;
     private readonly TeachServeDb _db;
@@ -34,7 +34,7 @@ public sealed class WriterStatements : IDisposable
         nameof(Session.EvidenceJson),
     ];
 
-    public WriterStatements(IServiceScopeFactory scopes)
+    public PreparedWrites(IServiceScopeFactory scopes)
     {
         _open = new DedicatedConnection(scopes);
         _db = _open.Db;
