@@ -56,19 +56,5 @@ public static class Cursor
         _ => limit.Value,
     };
 
-    /// <summary>Throwing form of <see cref="Read"/>, for request paths that still answer problems by exception.</summary>
-    public static string? Decode(string? cursor, string parameter)
-    {
-        var read = Read(cursor, parameter);
-        return read.Succeeded ? read.Value : throw ApiProblemException.BadRequest(read.Problem!.ProblemDetails.Detail!);
-    }
-
-    /// <summary>Throwing form of <see cref="PageSize"/>, for request paths that still answer problems by exception.</summary>
-    public static int Limit(int? limit)
-    {
-        var size = PageSize(limit);
-        return size.Succeeded ? size.Value : throw ApiProblemException.BadRequest(size.Problem!.ProblemDetails.Detail!);
-    }
-
     private static Microsoft.AspNetCore.Http.HttpResults.ProblemHttpResult NotACursor(string parameter) => Problems.BadRequest($"'{parameter}' is not a cursor returned by this API.");
 }

@@ -264,8 +264,11 @@ public sealed partial class SessionOperations(
     {
         if (phase is not null && !Phases.All.Contains(phase))
             return SessionRefusal.BadRequest($"'phase' must be one of {string.Join(", ", Phases.All)}.");
-        var after = Cursor.Decode(cursor, "cursor");
-        var take = Cursor.Limit(limit);
+        var read = Cursor.Read(cursor, "cursor");
+        if (!read.Succeeded) return SessionRefusal.BadRequest(read.Problem.ProblemDetails.Detail!);
+        var size = Cursor.PageSize(limit);
+        if (!size.Succeeded) return SessionRefusal.BadRequest(size.Problem.ProblemDetails.Detail!);
+        var (after, take) = (read.Value, size.Value);
         if (!await db.Projects.AnyAsync(p => p.Id == projectId, ct)) return SessionRefusal.NotFound("No such project.");
         var query = db.Sessions.AsNoTracking().Where(s => s.ProjectId == projectId);
         if (phase is not null) query = query.Where(s => s.Phase == phase);
