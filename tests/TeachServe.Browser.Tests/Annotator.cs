@@ -6,7 +6,7 @@ namespace TeachServe.Browser.Tests;
 
 /// <summary>
 /// Plays an annotator on the page who knows the truth: it recognises the shown drawing (the sanitised SVG of a
-/// weld-seams item) and answers its true label, or a wrong one when asked to. Waits on the page's own
+/// seed project's item) and answers its true label, or a wrong one when asked to. Waits on the page's own
 /// <c>data-view</c>/<c>data-step</c> markers, never on time.
 /// </summary>
 public sealed class Annotator(IPage page, IFrame frame)
@@ -125,11 +125,13 @@ public sealed class Annotator(IPage page, IFrame frame)
     private static Dictionary<string, string> LoadTruth()
     {
         var truth = new Dictionary<string, string>(StringComparer.Ordinal);
-        foreach (var line in File.ReadLines(RepositoryFile("seed-projects", "weld-seams", "items.jsonl")))
+        foreach (var line in Directory.GetDirectories(RepositoryFile("seed-projects"))
+                     .Select(d => Path.Combine(d, "items.jsonl")).Where(File.Exists).SelectMany(File.ReadLines))
         {
             if (string.IsNullOrWhiteSpace(line)) continue;
             using var doc = JsonDocument.Parse(line);
-            var svg = doc.RootElement.GetProperty("content").GetProperty("svg").GetString()!;
+            if (!doc.RootElement.TryGetProperty("content", out var content) || !content.TryGetProperty("svg", out var drawing)) continue;
+            var svg = drawing.GetString()!;
             truth[SvgSanitizer.DataUri(svg)!] = doc.RootElement.GetProperty("label").GetString()!;
         }
         return truth;

@@ -215,8 +215,8 @@ public sealed class AnnotatorPageTests(ServerFixture fixture) : IClassFixture<Se
         var desk = await fixture.NewPageAsync();
         await desk.GotoAsync(mouseLink);
         await new Annotator(desk, desk.MainFrame).OpenAsync();
-        Assert.Equal("Keys 1–2 choose a label.", await desk.Locator("#labels-hint").InnerTextAsync());
-        Assert.Equal(2, await desk.Locator("#label-buttons kbd").CountAsync());
+        Assert.Equal("Keys 1–3 choose a label.", await desk.Locator("#labels-hint").InnerTextAsync());
+        Assert.Equal(3, await desk.Locator("#label-buttons kbd").CountAsync());
     }
 
     [Fact]

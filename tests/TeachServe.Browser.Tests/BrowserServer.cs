@@ -12,7 +12,7 @@ namespace TeachServe.Browser.Tests;
 
 /// <summary>
 /// The real server on a loopback port (Kestrel, not the in-memory test server, so a browser can reach it), with its
-/// own SQLite file and the weld-seams demo loaded exactly as on a newcomer's first start.
+/// own SQLite file and the demo project loaded exactly as on a newcomer's first start.
 /// </summary>
 public sealed class BrowserServer : WebApplicationFactory<Program>
 {

@@ -32,11 +32,11 @@ public sealed class ConsoleTests(ServerFixture fixture) : IClassFixture<ServerFi
         var counts = await page.Locator("table.counts tfoot").InnerTextAsync();
 
         var bad = string.Join('\n',
-            """{"id":"new-1","pool":"teach","label":"accept","features":{"bead_width_mm":9,"undercut_depth_mm":0.1,"porosity_count":0},"content":{"text":"fine seam"}}""",
-            """{"id":"new-2","pool":"teach","label":"maybe","features":{"bead_width_mm":9,"undercut_depth_mm":0.1,"porosity_count":0}}""",
-            """{"id":"new-3","pool":"practice","label":"reject","features":{"bead_width_mm":9,"undercut_depth_mm":0.1,"porosity_count":0}}""",
+            """{"id":"new-1","pool":"teach","label":"healthy","features":{"spot_count":1,"spot_size_mm":0.8,"yellowing":0.1},"content":{"text":"a green leaf"}}""",
+            """{"id":"new-2","pool":"teach","label":"maybe","features":{"spot_count":1,"spot_size_mm":0.8,"yellowing":0.1}}""",
+            """{"id":"new-3","pool":"practice","label":"fungal-spots","features":{"spot_count":12,"spot_size_mm":3,"yellowing":0.2}}""",
             """{"id":"new-4", "pool": """);
-        await page.Locator("#items-file").SetInputFilesAsync(new FilePayload { Name = "more-seams.jsonl", MimeType = "application/x-ndjson", Buffer = System.Text.Encoding.UTF8.GetBytes(bad) });
+        await page.Locator("#items-file").SetInputFilesAsync(new FilePayload { Name = "more-leaves.jsonl", MimeType = "application/x-ndjson", Buffer = System.Text.Encoding.UTF8.GetBytes(bad) });
         await page.GetByRole(AriaRole.Button, new() { Name = "Upload" }).ClickAsync();
         var problems = page.Locator("#problems table.problems tbody tr");
         await problems.First.WaitForAsync();
@@ -49,7 +49,7 @@ public sealed class ConsoleTests(ServerFixture fixture) : IClassFixture<ServerFi
         await Browser.ShotAsync(page, "console-05-upload-errors");
 
         var good = bad.Split('\n')[0];
-        await page.Locator("#items-file").SetInputFilesAsync(new FilePayload { Name = "one-seam.jsonl", MimeType = "application/x-ndjson", Buffer = System.Text.Encoding.UTF8.GetBytes(good) });
+        await page.Locator("#items-file").SetInputFilesAsync(new FilePayload { Name = "one-leaf.jsonl", MimeType = "application/x-ndjson", Buffer = System.Text.Encoding.UTF8.GetBytes(good) });
         await page.GetByRole(AriaRole.Button, new() { Name = "Upload" }).ClickAsync();
         await page.Locator(".message.ok").WaitForAsync();
         Assert.Contains("1 new", await page.Locator(".message.ok").InnerTextAsync(), StringComparison.Ordinal);

@@ -17,14 +17,14 @@ public sealed class GuidanceTests(ServerFixture fixture) : IClassFixture<ServerF
 
         Look at **three things** in every drawing:
 
-        1. the bead width on the gauge,
-        2. the edge notches,
-        3. the pores.
+        1. the number of spots,
+        2. the colour of the leaf,
+        3. the size of the spots on the scale bar.
 
         <script>window.guidanceScriptRan = true;</script>
         <img src="x" onerror="window.guidanceScriptRan = true">
-        [Bad link](javascript:window.guidanceScriptRan=true) and [the full guide](https://guide.example.org/seams).
-        ![a remote picture](https://pictures.example.org/seam.png)
+        [Bad link](javascript:window.guidanceScriptRan=true) and [the full guide](https://guide.example.org/leaves).
+        ![a remote picture](https://pictures.example.org/leaf.png)
         """;
 
     [Fact]
@@ -36,7 +36,9 @@ public sealed class GuidanceTests(ServerFixture fixture) : IClassFixture<ServerF
             ["guidance"] = new JsonObject
             {
                 ["instructions"] = Instructions,
-                ["labels"] = new JsonObject { ["accept"] = "A *wide* bead with small defects.", ["reject"] = "Deep notches or many pores." },
+                ["labels"] = new JsonObject { ["healthy"] = "A *green* leaf with few marks.", ["fungal-spots"] = "Many brown spots with pale rims.",
+                    // Merge patch: null removes the demo's own guidance for this label.
+                    ["nutrient-deficiency"] = null },
             },
         };
         using (var response = await owner.PatchAsync($"/api/v1/projects/{fixture.ProjectId}",
@@ -61,14 +63,14 @@ public sealed class GuidanceTests(ServerFixture fixture) : IClassFixture<ServerF
         Assert.Equal("Before you start", await guide.Locator("h2").First.InnerTextAsync());
         Assert.Equal("three things", await guide.Locator("strong").First.InnerTextAsync());
         Assert.Equal(3, await guide.Locator("#guide-instructions ol li").CountAsync());
-        Assert.Equal("wide", await guide.Locator("dd em").InnerTextAsync());
-        Assert.Equal(["accept", "reject"], await guide.Locator("dt").AllInnerTextsAsync());
+        Assert.Equal("green", await guide.Locator("dd em").InnerTextAsync());
+        Assert.Equal(["healthy", "fungal-spots"], await guide.Locator("dt").AllInnerTextsAsync());
 
         // The owner's HTML is shown as text, never run; the javascript: link and the picture keep only their words.
         Assert.Equal(0, await guide.Locator("script, img, iframe").CountAsync());
         Assert.Contains("<script>", await guide.InnerTextAsync(), StringComparison.Ordinal);
         Assert.False(await page.EvaluateAsync<bool>("() => window.guidanceScriptRan === true"));
-        Assert.Equal(["https://guide.example.org/seams"], await guide.Locator("a").EvaluateAllAsync<string[]>("as => as.map(a => a.href)"));
+        Assert.Equal(["https://guide.example.org/leaves"], await guide.Locator("a").EvaluateAllAsync<string[]>("as => as.map(a => a.href)"));
         Assert.Equal("noopener noreferrer nofollow", await guide.Locator("a").GetAttributeAsync("rel"));
         Assert.Contains("a remote picture", await guide.InnerTextAsync(), StringComparison.Ordinal);
         await Browser.ShotAsync(page, "annotate-00-instructions");

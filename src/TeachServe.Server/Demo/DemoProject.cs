@@ -11,7 +11,8 @@ using TeachServe.Server.Versions;
 namespace TeachServe.Server.Demo;
 
 /// <summary>
-/// On first start, loads the <c>weld-seams</c> seed project, compiles it, starts one demo session and puts
+/// On first start, loads the <c>leaf-symptoms</c> seed project (a low-stakes scenario: telling drawn houseplant
+/// leaves apart), compiles it, starts one demo session and puts
 /// the keys and the annotator link in the start-up banner. Later starts only say that it is there.
 /// </summary>
 public sealed partial class DemoProject(
@@ -20,7 +21,7 @@ public sealed partial class DemoProject(
     ILogger<DemoProject> logger) : IStartupStep
 {
     public const string Setting = "demo-project";
-    public const string FolderName = "weld-seams";
+    public const string FolderName = "leaf-symptoms";
     public const string DemoWorker = "demo-annotator";
 
     public async Task RunAsync(TeachServeDb db, StartupBanner banner, CancellationToken ct)

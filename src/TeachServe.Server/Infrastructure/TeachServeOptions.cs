@@ -17,7 +17,7 @@ public sealed class TeachServeOptions
     /// <summary>Folder for the SQLite database (relative paths are resolved against the working directory).</summary>
     public string DataDirectory { get; set; } = "data";
 
-    /// <summary>Load the <c>weld-seams</c> demo project on first start.</summary>
+    /// <summary>Load the <c>leaf-symptoms</c> demo project on first start.</summary>
     public bool LoadDemo { get; set; } = true;
 
     /// <summary>Folder of the demo project (project.json + items.jsonl); defaults to the copy shipped beside the server.</summary>
