@@ -19,19 +19,7 @@ public sealed partial class ConsolePageTests
         var keys = await app.ReadyProjectAsync(project);
         await Api.JsonAsync(await app.Client(keys.EmbedKey).PostAsJsonAsync($"/api/v1/projects/{keys.ProjectId}/sessions", new { workerRef = Markup }), 201);
 
-        // The console's cookies are Secure and the test server speaks plain HTTP: carry them by hand.
-        using var client = app.CreateClient(new WebApplicationFactoryClientOptions { HandleCookies = false, AllowAutoRedirect = false });
-        using var signInPage = await client.GetAsync("/console");
-        var formCookie = Cookie(signInPage, "teachserve-console-form");
-        var token = WebUtility.HtmlDecode(FormField().Match(await signInPage.Content.ReadAsStringAsync()).Groups[1].Value);
-        using var signIn = new HttpRequestMessage(HttpMethod.Post, "/console/sign-in")
-        {
-            Content = new FormUrlEncodedContent(new Dictionary<string, string> { ["__form"] = token, ["ownerKey"] = keys.OwnerKey }),
-        };
-        signIn.Headers.Add("Cookie", formCookie);
-        using var signedIn = await client.SendAsync(signIn);
-        Assert.Equal(HttpStatusCode.Redirect, signedIn.StatusCode);
-        var cookies = $"{formCookie}; {Cookie(signedIn, "teachserve-console")}";
+        var (client, cookies) = await SignInAsync(app, keys.OwnerKey);
 
         foreach (var path in new[] { "/console", "/console/project" })
         {
@@ -50,6 +38,53 @@ public sealed partial class ConsolePageTests
         onboarding.Headers.Add("Cookie", cookies);
         var sessions = await (await client.SendAsync(onboarding)).Content.ReadAsStringAsync();
         Assert.Contains("<td class=\"worker\">&lt;img src=x onerror=alert(1)&gt;</td>", sessions, StringComparison.Ordinal);
+    }
+
+    /// <summary>Signs in to the console; the console's cookies are Secure and the test server speaks plain HTTP, so they are carried by hand.</summary>
+    private static async Task<(HttpClient Client, string Cookies)> SignInAsync(TestApp app, string ownerKey)
+    {
+        var client = app.CreateClient(new WebApplicationFactoryClientOptions { HandleCookies = false, AllowAutoRedirect = false });
+        using var signInPage = await client.GetAsync("/console");
+        var formCookie = Cookie(signInPage, "teachserve-console-form");
+        var token = WebUtility.HtmlDecode(FormField().Match(await signInPage.Content.ReadAsStringAsync()).Groups[1].Value);
+        using var signIn = new HttpRequestMessage(HttpMethod.Post, "/console/sign-in")
+        {
+            Content = new FormUrlEncodedContent(new Dictionary<string, string> { ["__form"] = token, ["ownerKey"] = ownerKey }),
+        };
+        signIn.Headers.Add("Cookie", formCookie);
+        using var signedIn = await client.SendAsync(signIn);
+        Assert.Equal(HttpStatusCode.Redirect, signedIn.StatusCode);
+        return (client, $"{formCookie}; {Cookie(signedIn, "teachserve-console")}");
+    }
+
+    [Fact]
+    public async Task Calibration_lists_every_tested_annotator_released_or_not_with_a_wilson_interval()
+    {
+        using var app = new TestApp();
+        var keys = await app.ReadyProjectAsync();
+        await TestApp.RunAsync(await app.StartSessionAsync(keys, "w-released"), (item, _) => TestApp.TruthOf(item));
+        var failing = await app.StartSessionAsync(keys, "w-failed");
+        var (final, _) = await TestApp.RunAsync(failing, (item, phase) =>
+            phase == "teaching" ? TestApp.TruthOf(item) : (TestApp.TruthOf(item) == "sound" ? "defect" : "sound"));
+        Assert.Equal("failed", final["phase"]!.GetValue<string>());
+        var evidence = (await app.EvidenceAsync(keys, failing.SessionId))!;
+        var (errors, answered) = (evidence["testErrors"]!.GetValue<int>(), evidence["testAnswered"]!.GetValue<int>());
+
+        var (client, cookies) = await SignInAsync(app, keys.OwnerKey);
+        using (client)
+        {
+            using var request = new HttpRequestMessage(HttpMethod.Get, "/console");
+            request.Headers.Add("Cookie", cookies);
+            var html = await (await client.SendAsync(request)).Content.ReadAsStringAsync();
+            Assert.Matches("<tr><td>w-released</td><td>released</td>", html);
+            var row = Regex.Match(html, "<tr><td>w-failed</td><td>failed</td><td>[^<]*</td><td>([^<]*)</td><td>([^<]*)</td><td>(\\d+)</td></tr>");
+            Assert.True(row.Success, "the failed annotator is missing from the calibration table");
+            Assert.Equal(answered, int.Parse(row.Groups[3].Value, System.Globalization.CultureInfo.InvariantCulture));
+            // The interval printed is the Wilson score interval of the test errors (Wilson 1927), as the engine computes it.
+            var wilson = Core.Statistics.ProportionIntervals.Wilson(errors, answered);
+            Assert.Equal($"{OwnerConsole.ConsoleFormat.Pct(wilson.Low)}–{OwnerConsole.ConsoleFormat.Pct(wilson.High)}", WebUtility.HtmlDecode(row.Groups[2].Value));
+            Assert.Equal(OwnerConsole.ConsoleFormat.Pct((double)errors / answered), WebUtility.HtmlDecode(row.Groups[1].Value));
+        }
     }
 
     /// <summary>"name=value" of a Set-Cookie header, ready for a Cookie header.</summary>

@@ -14,11 +14,18 @@ public static class ConsolePlots
     public static readonly int Height = PlotSize.Console.Height;
     public static readonly IReadOnlyList<string> Names = ["calibration.svg", "learning-curve.svg", "items-to-release.svg"];
 
-    /// <summary>Predicted error at the end of teaching against the error observed on the test, one point per released annotator.</summary>
-    public static ScottPlot.Plot Calibration(IReadOnlyList<CalibrationPoint> points, double targetError) =>
-        CalibrationFigure.Draw("Predicted vs observed error (released)", "predicted error when teaching ended", "observed test error",
-            new CalibrationSeries("", points.Select(p => p.Predicted).ToArray(), points.Select(p => p.Observed).ToArray()),
+    /// <summary>
+    /// Predicted error at the end of teaching against the error observed on the test, one point per tested annotator
+    /// (released or not), with the observed error's 95 % Wilson interval.
+    /// </summary>
+    public static ScottPlot.Plot Calibration(IReadOnlyList<CalibrationPoint> points, double targetError)
+    {
+        var withIntervals = points.All(p => double.IsFinite(p.Low) && double.IsFinite(p.High));
+        return CalibrationFigure.Draw("Predicted vs observed error (all tested)", "predicted error when teaching ended", "observed test error",
+            new CalibrationSeries("", points.Select(p => p.Predicted).ToArray(), points.Select(p => p.Observed).ToArray(),
+                withIntervals ? points.Select(p => p.Low).ToArray() : null, withIntervals ? points.Select(p => p.High).ToArray() : null),
             targetError);
+    }
 
     /// <summary>Mean predicted error after each teaching step, starting from the prior's error at step 0, with the target.</summary>
     public static ScottPlot.Plot LearningCurve(IReadOnlyList<CurvePoint> curve, double startingError, double targetError) =>

@@ -12,7 +12,12 @@ namespace TeachServe.Server.OwnerConsole;
 public sealed record SessionRow(SessionView View, TimeSpan? Duration);
 
 /// <summary>Predicted error when teaching ended vs. the error observed on the held-out test, for one released annotator.</summary>
-public sealed record CalibrationPoint(string WorkerRef, double Predicted, double Observed, int TestAnswered);
+/// <summary>
+/// One tested annotator, released or not: predicted error when teaching ended, observed test error with its 95 %
+/// Wilson interval (Wilson 1927) over the test answers, and how the session ended.
+/// </summary>
+public sealed record CalibrationPoint(string WorkerRef, double Predicted, double Observed, int TestAnswered,
+    double Low = double.NaN, double High = double.NaN, string Phase = Phases.Released);
 
 /// <summary>Mean predicted error after the n-th teaching answer, over the sessions that got that far.</summary>
 public sealed record CurvePoint(int TeachingStep, double MeanPredictedError, int Sessions);
@@ -115,11 +120,16 @@ public static class ConsoleStats
         var curve = sums.Select((s, i) => new CurvePoint(i + 1, s.Sum / s.Count, s.Count)).ToList();
 
         var calibration = new List<CalibrationPoint>();
-        foreach (var s in recent.Where(s => s.Phase == Phases.Released && s.EvidenceJson is not null))
+        // Every tested annotator, not only the released ones: released annotators alone would flatter the predictions
+        // (a session whose test went badly is exactly where the prediction failed).
+        foreach (var s in recent.Where(s => s.Phase is Phases.Released or Phases.Failed && s.EvidenceJson is not null))
         {
             var evidence = Json.Deserialize<EvidenceView>(s.EvidenceJson!);
-            if (evidence.TestError is { } observed && lastTaught.TryGetValue(s.Id, out var predicted))
-                calibration.Add(new CalibrationPoint(s.WorkerRef, predicted, observed, evidence.TestAnswered));
+            if (evidence.TestError is { } observed && evidence.TestAnswered > 0 && lastTaught.TryGetValue(s.Id, out var predicted))
+            {
+                var interval = Core.Statistics.ProportionIntervals.Wilson(evidence.TestErrors, evidence.TestAnswered);
+                calibration.Add(new CalibrationPoint(s.WorkerRef, predicted, observed, evidence.TestAnswered, interval.Low, interval.High, s.Phase));
+            }
         }
         return (calibration, curve);
     }
