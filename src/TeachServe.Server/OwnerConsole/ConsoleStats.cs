@@ -11,7 +11,6 @@ namespace TeachServe.Server.OwnerConsole;
 /// <summary>One recent session as the console lists it.</summary>
 public sealed record SessionRow(SessionView View, TimeSpan? Duration);
 
-/// <summary>Predicted error when teaching ended vs. the error observed on the held-out test, for one released annotator.</summary>
 /// <summary>
 /// One tested annotator, released or not: predicted error when teaching ended, observed test error with its 95 %
 /// Wilson interval (Wilson 1927) over the test answers, and how the session ended.
