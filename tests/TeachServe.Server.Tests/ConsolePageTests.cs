@@ -2,6 +2,7 @@ using System.Net;
 using System.Net.Http.Json;
 using System.Text.RegularExpressions;
 using Microsoft.AspNetCore.Mvc.Testing;
+using TeachServe.Server.OwnerConsole;
 
 namespace TeachServe.Server.Tests;
 
@@ -84,6 +85,40 @@ public sealed partial class ConsolePageTests
             var wilson = Core.Statistics.ProportionIntervals.Wilson(errors, answered);
             Assert.Equal($"{OwnerConsole.ConsoleFormat.Pct(wilson.Low)}–{OwnerConsole.ConsoleFormat.Pct(wilson.High)}", WebUtility.HtmlDecode(row.Groups[2].Value));
             Assert.Equal(OwnerConsole.ConsoleFormat.Pct((double)errors / answered), WebUtility.HtmlDecode(row.Groups[1].Value));
+        }
+    }
+
+[Fact]
+    public async Task A_test_item_everyone_misses_is_marked_for_checking_and_teaching_items_are_counted()
+    {
+        using var app = new TestApp();
+        var keys = await app.ReadyProjectAsync();
+        // Every annotator answers right, except on test item h03 (x = 3.5), which every one of them misses: the pattern
+        // of a mislabelled item. Sessions go on until it has had enough answers to be judged (test items are drawn at random).
+        var missed = 0;
+        for (var n = 0; n < 200 && missed < ConsoleStats.MinShownForSuspect + 1; n++)
+        {
+            await TestApp.RunAsync(await app.StartSessionAsync(keys, $"w-{n}"), (item, phase) =>
+            {
+                var truth = TestApp.TruthOf(item);
+                if (phase != "testing" || item["content"]!["text"]!.GetValue<string>() != "x=3.5") return truth;
+                missed++;
+                return truth == "sound" ? "defect" : "sound";
+            });
+        }
+        Assert.True(missed > ConsoleStats.MinShownForSuspect);
+
+        var (client, cookies) = await SignInAsync(app, keys.OwnerKey);
+        using (client)
+        {
+            using var request = new HttpRequestMessage(HttpMethod.Get, "/console");
+            request.Headers.Add("Cookie", cookies);
+            var html = await (await client.SendAsync(request)).Content.ReadAsStringAsync();
+            var suspects = Regex.Matches(html, "<tr class=\"suspect\"><td>([^<]+)</td>").Select(m => m.Groups[1].Value).ToList();
+            Assert.Equal(["h03"], suspects);
+            Assert.Matches($"<tr class=\"suspect\"><td>h03</td><td class=\"num\">{missed}</td><td class=\"num\">{missed}</td>", html);
+            // Teaching items are listed with how often they were shown.
+            Assert.Matches("(?s)<table class=\"items-stats teaching-items\">.*<td>t\\d\\d</td><td class=\"num\">\\d+</td>", html);
         }
     }
 

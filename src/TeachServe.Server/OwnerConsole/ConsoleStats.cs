@@ -8,6 +8,18 @@ using TeachServe.Server.Sessions;
 
 namespace TeachServe.Server.OwnerConsole;
 
+/// <summary>
+/// How one item fared in the recent sessions: how often it was shown and missed, the miss rate's 95 % Wilson interval,
+/// and for a teaching item the mean drop of the predicted error at that answer. A test item that most annotators
+/// miss (the interval's lower end above one half, at least <see cref="ConsoleStats.MinShownForSuspect"/> answers) is
+/// suspect: likely mislabelled or ambiguous.
+/// </summary>
+public sealed record ItemStat(string ItemId, bool Teaching, int Shown, int Missed, Interval MissInterval, double? MeanDrop)
+{
+    public double MissRate => Shown > 0 ? (double)Missed / Shown : double.NaN;
+    public bool Suspect => !Teaching && Shown >= ConsoleStats.MinShownForSuspect && MissInterval.Low > 0.5;
+}
+
 /// <summary>One recent session as the console lists it.</summary>
 public sealed record SessionRow(SessionView View, TimeSpan? Duration);
 
@@ -35,7 +47,8 @@ public sealed record OnboardingStats(
     IReadOnlyList<SessionRow> Recent,
     int SessionsInPictures,
     int Page = 1,
-    int TotalSessions = 0);
+    int TotalSessions = 0,
+    IReadOnlyList<ItemStat>? Items = null);
 
 /// <summary>
 /// The live onboarding figures of one project. Counts cover every session; medians cover the most recent
@@ -47,6 +60,7 @@ public static class ConsoleStats
     public const int MaxEnded = 5000;
     public const int MaxForPictures = 300;
     public const int RecentRows = 25;
+    public const int MinShownForSuspect = 5;
 
     /// <param name="page">Which page of the session table, newest first, <see cref="RecentRows"/> rows each (from 1).</param>
     public static async Task<OnboardingStats> ComputeAsync(TeachServeDb db, string projectId, CancellationToken ct, int page = 1)
@@ -65,7 +79,7 @@ public static class ConsoleStats
             .Select(r => (r.EndedAt!.Value - r.CreatedAt).TotalMinutes).Order().ToList();
 
         var recent = await sessions.OrderByDescending(s => s.CreatedAt).ThenByDescending(s => s.Id).Take(MaxForPictures).ToListAsync(ct);
-        var (calibration, curve) = await PicturesAsync(db, recent, ct);
+        var (calibration, curve, itemStats) = await PicturesAsync(db, recent, ct);
         var total = byPhase.Values.Sum();
         page = Math.Clamp(page, 1, Math.Max(1, (total + RecentRows - 1) / RecentRows));
         var pageRows = page == 1 ? recent.Take(RecentRows).ToList()
@@ -82,14 +96,14 @@ public static class ConsoleStats
             interval,
             items.Count > 0 ? Median(items.Select(i => (double)i).ToList()) : null,
             minutes.Count > 0 ? TimeSpan.FromMinutes(Median(minutes)) : null,
-            items, calibration, curve, rows, recent.Count, page, total);
+            items, calibration, curve, rows, recent.Count, page, total, itemStats);
     }
 
     /// <summary>Median of a sorted list; the mean of the middle two for an even count.</summary>
     public static double Median(IReadOnlyList<double> sorted) =>
         sorted.Count % 2 == 1 ? sorted[sorted.Count / 2] : (sorted[sorted.Count / 2 - 1] + sorted[sorted.Count / 2]) / 2;
 
-    private static async Task<(List<CalibrationPoint>, List<CurvePoint>)> PicturesAsync(
+    private static async Task<(List<CalibrationPoint>, List<CurvePoint>, List<ItemStat>)> PicturesAsync(
         TeachServeDb db, List<Session> recent, CancellationToken ct)
     {
         var ids = recent.Select(s => s.Id).ToList();
@@ -100,19 +114,28 @@ public static class ConsoleStats
 
         var sums = new List<(double Sum, int Count)>();
         var lastTaught = new Dictionary<string, double>(StringComparer.Ordinal);
+        var tally = new Dictionary<(string ItemId, bool Teaching), (int Shown, int Missed, double DropSum, int Drops)>();
         foreach (var group in events.GroupBy(e => e.SessionId!))
         {
             var step = 0;
+            double? previous = null;
             foreach (var e in group)
             {
                 using var doc = JsonDocument.Parse(e.DataJson);
                 var root = doc.RootElement;
-                if (root.GetProperty("phase").GetString() != Phases.Teaching) continue;
-                if (!root.GetProperty("response").TryGetProperty("predictedError", out var pe)) continue;
-                var value = pe.GetDouble();
+                var teaching = root.GetProperty("phase").GetString() == Phases.Teaching;
+                var key = (root.GetProperty("itemId").GetString()!, teaching);
+                var t = tally.GetValueOrDefault(key);
+                t = (t.Shown + 1, t.Missed + (root.GetProperty("correct").GetBoolean() ? 0 : 1), t.DropSum, t.Drops);
+                double? value = teaching && root.GetProperty("response").TryGetProperty("predictedError", out var pe)
+                    && pe.ValueKind == JsonValueKind.Number ? pe.GetDouble() : null;
+                if (value is { } v && previous is { } before) t = (t.Shown, t.Missed, t.DropSum + (before - v), t.Drops + 1);
+                tally[key] = t;
+                if (value is not { } taught) continue;
+                previous = taught;
                 if (sums.Count <= step) sums.Add((0, 0));
-                sums[step] = (sums[step].Sum + value, sums[step].Count + 1);
-                lastTaught[group.Key] = value;
+                sums[step] = (sums[step].Sum + taught, sums[step].Count + 1);
+                lastTaught[group.Key] = taught;
                 step++;
             }
         }
@@ -130,6 +153,10 @@ public static class ConsoleStats
                 calibration.Add(new CalibrationPoint(s.WorkerRef, predicted, observed, evidence.TestAnswered, interval.Low, interval.High, s.Phase));
             }
         }
-        return (calibration, curve);
+        var itemStats = tally
+            .Select(kv => new ItemStat(kv.Key.ItemId, kv.Key.Teaching, kv.Value.Shown, kv.Value.Missed,
+                ProportionIntervals.Wilson(kv.Value.Missed, kv.Value.Shown), kv.Value.Drops > 0 ? kv.Value.DropSum / kv.Value.Drops : null))
+            .ToList();
+        return (calibration, curve, itemStats);
     }
 }
