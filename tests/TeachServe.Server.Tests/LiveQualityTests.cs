@@ -139,17 +139,24 @@ public sealed class LiveQualityTests
         var keys = await app.ReadyProjectAsync();
         await ReleaseAsync(app, keys, "late");
         await ReleaseAsync(app, keys, "ordered");
-        // The same six answers, five wrong: one worker's arrive in order, the other's with the first answer last.
-        var answers = Enumerable.Range(0, 6).Select(n => (Item: n, Label: n == 0 ? "sound" : "defect", Minute: n)).ToList();
-        await Api.JsonAsync(await PostAsync(app, keys, [.. answers.Select(a => Outcome($"o{a.Item}", "ordered", a.Item, a.Label, a.Minute))]), 200);
-        await Api.JsonAsync(await PostAsync(app, keys, [.. answers.Skip(1).Select(a => Outcome($"l{a.Item}", "late", a.Item, a.Label, a.Minute))]), 200);
-        await Api.JsonAsync(await PostAsync(app, keys, Outcome("l0", "late", 0, "sound", 0)), 200);
+        // The same twenty answers, every fourth wrong: in time order each error is followed by three right answers,
+        // which bring the chart back to zero (a wrong answer adds ln(0.5/0.12) ≈ 1.43 nats, a right one takes
+        // ln(0.88/0.5) ≈ 0.57), so it never alarms. The late worker's five errors arrive after the right answers;
+        // applied in arrival order they would be five in a row, 7.1 nats, past any limit with ARL0 500 (Lorden 1971:
+        // h ≤ ln 500 ≈ 6.2 nats suffices).
+        var answers = Enumerable.Range(0, 20).ToList();
+        static string Label(int n) => n % 4 == 0 ? (Truth(n) == "sound" ? "defect" : "sound") : Truth(n);
+        await Api.JsonAsync(await PostAsync(app, keys, [.. answers.Select(n => Outcome($"o{n}", "ordered", n, Label(n), n))]), 200);
+        await Api.JsonAsync(await PostAsync(app, keys, [.. answers.Where(n => n % 4 != 0).Select(n => Outcome($"l{n}", "late", n, Label(n), n))]), 200);
+        await Api.JsonAsync(await PostAsync(app, keys, [.. answers.Where(n => n % 4 == 0).Select(n => Outcome($"l{n}", "late", n, Label(n), n))]), 200);
 
         var ordered = (await HistoryAsync(app, keys, "ordered"))["annotator"]!;
         var late = (await HistoryAsync(app, keys, "late"))["annotator"]!;
+        Assert.Equal(0, ordered["alarms"]!.GetValue<int>());
         foreach (var field in new[] { "status", "checks", "errors", "alarms" })
             Assert.Equal(ordered[field]!.ToJsonString(), late[field]!.ToJsonString());
-        Assert.Equal(6, late["checks"]!.GetValue<int>());
+        Assert.Equal(20, late["checks"]!.GetValue<int>());
+        Assert.Equal(5, late["errors"]!.GetValue<int>());
     }
 
     [Fact]
