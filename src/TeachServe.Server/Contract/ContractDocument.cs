@@ -18,6 +18,7 @@ public sealed class ContractDocument : IOpenApiDocumentTransformer
         ["Sessions"] = "One annotator's onboarding run: start, next item, answers, status, test exposure.",
         ["Releases"] = "The feed of annotators who passed the gate, with their evidence.",
         ["Events"] = "The append-only event log of a project, exported as JSON Lines.",
+        ["Live quality"] = "After release: live-check outcomes reported by the platform, and each annotator's drift status.",
         ["Privacy"] = "Erasing one worker's data, and the audit entries that record it.",
         ["Experiments"] = "A/B tests of teaching configurations: arms, start and stop, reports and plots.",
         ["Fits"] = "Learner-model parameters estimated from finished sessions, and calibration of predicted error.",

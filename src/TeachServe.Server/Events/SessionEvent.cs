@@ -22,4 +22,6 @@ public static class EventTypes
     public const string SessionReleased = "session.released";
     public const string SessionFailed = "session.failed";
     public const string WorkerErased = "worker.erased";
+    /// <summary>A released annotator's live-quality status changed (reliable, watch, refresher-due, paused).</summary>
+    public const string LiveStatusChanged = "live.status";
 }

@@ -30,6 +30,8 @@ public abstract class TeachServeDb(DbContextOptions options) : DbContext(options
     public DbSet<ServerSetting> ServerSettings => Set<ServerSetting>();
     public DbSet<DataProtectionKey> DataProtectionKeys => Set<DataProtectionKey>();
     public DbSet<Exposure.TestExposure> TestExposures => Set<Exposure.TestExposure>();
+    public DbSet<LiveQuality.LiveCheckRecord> LiveChecks => Set<LiveQuality.LiveCheckRecord>();
+    public DbSet<LiveQuality.LiveMonitorRecord> LiveMonitors => Set<LiveQuality.LiveMonitorRecord>();
 
     protected override void OnModelCreating(ModelBuilder modelBuilder) =>
         modelBuilder.ApplyConfigurationsFromAssembly(typeof(TeachServeDb).Assembly);

@@ -12,7 +12,7 @@ public sealed class WorkerOperations(TeachServeDb db, TimeProvider time, Session
 {
     public const string EraseAction = "worker.erased";
 
-    /// <summary>Erases the worker's sessions, events, releases and webhooks in one transaction, and records an audit entry.</summary>
+    /// <summary>Erases the worker's sessions, events, releases, webhooks, live checks and live monitor in one transaction, and records an audit entry.</summary>
     public async Task<Outcome<WorkerErased>> EraseAsync(string projectId, string workerRef, CancellationToken ct)
     {
         if (workerRef.Length > SessionLimits.WorkerRefLength)
@@ -28,22 +28,24 @@ public sealed class WorkerOperations(TeachServeDb db, TimeProvider time, Session
         var releases = await db.Releases.Where(r => r.ProjectId == projectId && r.WorkerRef == workerRef).ExecuteDeleteAsync(ct);
         var webhooks = await db.Outbox.Where(m => m.ProjectId == projectId && m.WorkerRef == workerRef).ExecuteDeleteAsync(ct);
         var sessions = await db.Sessions.Where(s => s.ProjectId == projectId && s.WorkerRef == workerRef).ExecuteDeleteAsync(ct);
+        var liveChecks = await db.LiveChecks.Where(c => c.ProjectId == projectId && c.WorkerRef == workerRef).ExecuteDeleteAsync(ct);
+        await db.LiveMonitors.Where(m => m.ProjectId == projectId && m.WorkerRef == workerRef).ExecuteDeleteAsync(ct);
 
-        var details = Json.Serialize(new { sessions, events, releases, webhooks });
+        var details = Json.Serialize(new { sessions, events, releases, webhooks, liveChecks });
         var audit = new AuditEntry { ProjectId = projectId, Action = EraseAction, SubjectHash = subject, DetailsJson = details, At = now };
         db.Audit.Add(audit);
         // The log itself says that something was removed, and from whom only by hash.
         db.Events.Add(new SessionEvent
         {
             ProjectId = projectId, Type = EventTypes.WorkerErased, At = now,
-            DataJson = Json.Serialize(new { subjectHash = subject, sessions, events, releases, webhooks }),
+            DataJson = Json.Serialize(new { subjectHash = subject, sessions, events, releases, webhooks, liveChecks }),
         });
         await db.SaveChangesAsync(ct);
         await tx.CommitAsync(ct);
         foreach (var id in sessionIds) cache.Evict(id);
         await ErasureScrub.RunAsync(db, logs.CreateLogger(typeof(ErasureScrub)), ct);
 
-        return new WorkerErased(audit.Id, subject, sessions, events, releases, webhooks);
+        return new WorkerErased(audit.Id, subject, sessions, events, releases, webhooks, liveChecks);
     }
 
     /// <summary>Audit entries after the cursor, oldest first; 400 for a foreign cursor or a limit out of range.</summary>

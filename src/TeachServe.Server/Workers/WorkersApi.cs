@@ -4,7 +4,7 @@ using TeachServe.Server.Contract;
 
 namespace TeachServe.Server.Workers;
 
-public sealed record WorkerErased(long AuditId, string SubjectHash, int Sessions, int Events, int Releases, int Webhooks);
+public sealed record WorkerErased(long AuditId, string SubjectHash, int Sessions, int Events, int Releases, int Webhooks, int LiveChecks);
 
 public sealed record AuditView(long Id, string Action, string SubjectHash, System.Text.Json.Nodes.JsonNode? Details, DateTimeOffset At);
 
@@ -18,7 +18,7 @@ public static class WorkersApi
         var group = api.MapGroup("/projects/{projectId}").WithTags("Privacy");
         group.MapDelete("/workers/{workerRef}", EraseWorker).RequireKey(KeyRole.Owner).WithName("eraseWorker")
             .Problem(StatusCodes.Status400BadRequest, "'workerRef' is longer than any stored one.")
-            .WithSummary("Erase one worker's sessions, events, releases and webhooks (privacy request); records an audit entry.");
+            .WithSummary("Erase one worker's sessions, events, releases, webhooks, live checks and live-quality state (privacy request); records an audit entry.");
         group.MapGet("/audit", ListAudit).RequireKey(KeyRole.Owner).WithName("listAudit")
             .Problem(StatusCodes.Status400BadRequest, "'cursor' or 'limit' is not valid.")
             .WithSummary("Audit entries of the project, oldest first.");

@@ -251,6 +251,128 @@ namespace TeachServe.Server.Persistence.Migrations.Postgres
                     b.ToTable("Items", (string)null);
                 });
 
+            modelBuilder.Entity("TeachServe.Server.LiveQuality.LiveCheckRecord", b =>
+                {
+                    b.Property<long>("Id")
+                        .ValueGeneratedOnAdd()
+                        .HasColumnType("bigint");
+
+                    NpgsqlPropertyBuilderExtensions.UseIdentityByDefaultColumn(b.Property<long>("Id"));
+
+                    b.Property<DateTimeOffset>("AnsweredAt")
+                        .HasColumnType("timestamp with time zone");
+
+                    b.Property<string>("ItemId")
+                        .IsRequired()
+                        .HasMaxLength(200)
+                        .HasColumnType("character varying(200)");
+
+                    b.Property<string>("KnownLabel")
+                        .IsRequired()
+                        .HasMaxLength(100)
+                        .HasColumnType("character varying(100)");
+
+                    b.Property<string>("Label")
+                        .IsRequired()
+                        .HasMaxLength(100)
+                        .HasColumnType("character varying(100)");
+
+                    b.Property<string>("OutcomeId")
+                        .IsRequired()
+                        .HasMaxLength(100)
+                        .HasColumnType("character varying(100)");
+
+                    b.Property<string>("ProjectId")
+                        .IsRequired()
+                        .HasMaxLength(40)
+                        .HasColumnType("character varying(40)");
+
+                    b.Property<DateTimeOffset>("ReceivedAt")
+                        .HasColumnType("timestamp with time zone");
+
+                    b.Property<string>("WorkerRef")
+                        .IsRequired()
+                        .HasMaxLength(200)
+                        .HasColumnType("character varying(200)");
+
+                    b.Property<bool>("Wrong")
+                        .HasColumnType("boolean");
+
+                    b.HasKey("Id");
+
+                    b.HasIndex("ProjectId", "OutcomeId")
+                        .IsUnique();
+
+                    b.HasIndex("ProjectId", "WorkerRef", "AnsweredAt", "Id");
+
+                    b.ToTable("LiveChecks", (string)null);
+                });
+
+            modelBuilder.Entity("TeachServe.Server.LiveQuality.LiveMonitorRecord", b =>
+                {
+                    b.Property<string>("ProjectId")
+                        .HasMaxLength(40)
+                        .HasColumnType("character varying(40)");
+
+                    b.Property<string>("WorkerRef")
+                        .HasMaxLength(200)
+                        .HasColumnType("character varying(200)");
+
+                    b.Property<int>("Alarms")
+                        .HasColumnType("integer");
+
+                    b.Property<int>("Checks")
+                        .HasColumnType("integer");
+
+                    b.Property<int>("Errors")
+                        .HasColumnType("integer");
+
+                    b.Property<string>("LastAlarm")
+                        .HasMaxLength(40)
+                        .HasColumnType("character varying(40)");
+
+                    b.Property<DateTimeOffset?>("LastAlarmAt")
+                        .HasColumnType("timestamp with time zone");
+
+                    b.Property<DateTimeOffset>("LastAnsweredAt")
+                        .HasColumnType("timestamp with time zone");
+
+                    b.Property<long>("LastCheckId")
+                        .HasColumnType("bigint");
+
+                    b.Property<int>("ModelVersion")
+                        .HasColumnType("integer");
+
+                    b.Property<int>("Revision")
+                        .IsConcurrencyToken()
+                        .HasColumnType("integer");
+
+                    b.Property<string>("SessionId")
+                        .IsRequired()
+                        .HasMaxLength(40)
+                        .HasColumnType("character varying(40)");
+
+                    b.Property<DateTimeOffset>("StartedAt")
+                        .HasColumnType("timestamp with time zone");
+
+                    b.Property<byte[]>("State")
+                        .IsRequired()
+                        .HasMaxLength(1024)
+                        .HasColumnType("bytea");
+
+                    b.Property<string>("Status")
+                        .IsRequired()
+                        .HasMaxLength(16)
+                        .HasColumnType("character varying(16)");
+
+                    b.Property<DateTimeOffset>("UpdatedAt")
+                        .HasColumnType("timestamp with time zone");
+
+                    b.HasKey("ProjectId", "WorkerRef");
+
+                    b.ToTable("LiveMonitors", (string)null);
+                });
+
             modelBuilder.Entity("TeachServe.Server.Persistence.ServerSetting", b =>
                 {
                     b.Property<string>("Key")
@@ -736,6 +858,24 @@ namespace TeachServe.Server.Persistence.Migrations.Postgres
                 });
 
             modelBuilder.Entity("TeachServe.Server.Items.Item", b =>
+                {
+                    b.HasOne("TeachServe.Server.Projects.Project", null)
+                        .WithMany()
+                        .HasForeignKey("ProjectId")
+                        .OnDelete(DeleteBehavior.Cascade)
+                        .IsRequired();
+                });
+
+            modelBuilder.Entity("TeachServe.Server.LiveQuality.LiveCheckRecord", b =>
+                {
+                    b.HasOne("TeachServe.Server.Projects.Project", null)
+                        .WithMany()
+                        .HasForeignKey("ProjectId")
+                        .OnDelete(DeleteBehavior.Cascade)
+                        .IsRequired();
+                });
+
+            modelBuilder.Entity("TeachServe.Server.LiveQuality.LiveMonitorRecord", b =>
                 {
                     b.HasOne("TeachServe.Server.Projects.Project", null)
                         .WithMany()

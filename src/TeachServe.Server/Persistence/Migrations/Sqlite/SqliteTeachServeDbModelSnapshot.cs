@@ -241,6 +241,126 @@ namespace TeachServe.Server.Persistence.Migrations.Sqlite
                     b.ToTable("Items", (string)null);
                 });
 
+            modelBuilder.Entity("TeachServe.Server.LiveQuality.LiveCheckRecord", b =>
+                {
+                    b.Property<long>("Id")
+                        .ValueGeneratedOnAdd()
+                        .HasColumnType("INTEGER");
+
+                    b.Property<long>("AnsweredAt")
+                        .HasColumnType("INTEGER");
+
+                    b.Property<string>("ItemId")
+                        .IsRequired()
+                        .HasMaxLength(200)
+                        .HasColumnType("TEXT");
+
+                    b.Property<string>("KnownLabel")
+                        .IsRequired()
+                        .HasMaxLength(100)
+                        .HasColumnType("TEXT");
+
+                    b.Property<string>("Label")
+                        .IsRequired()
+                        .HasMaxLength(100)
+                        .HasColumnType("TEXT");
+
+                    b.Property<string>("OutcomeId")
+                        .IsRequired()
+                        .HasMaxLength(100)
+                        .HasColumnType("TEXT");
+
+                    b.Property<string>("ProjectId")
+                        .IsRequired()
+                        .HasMaxLength(40)
+                        .HasColumnType("TEXT");
+
+                    b.Property<long>("ReceivedAt")
+                        .HasColumnType("INTEGER");
+
+                    b.Property<string>("WorkerRef")
+                        .IsRequired()
+                        .HasMaxLength(200)
+                        .HasColumnType("TEXT");
+
+                    b.Property<bool>("Wrong")
+                        .HasColumnType("INTEGER");
+
+                    b.HasKey("Id");
+
+                    b.HasIndex("ProjectId", "OutcomeId")
+                        .IsUnique();
+
+                    b.HasIndex("ProjectId", "WorkerRef", "AnsweredAt", "Id");
+
+                    b.ToTable("LiveChecks", (string)null);
+                });
+
+            modelBuilder.Entity("TeachServe.Server.LiveQuality.LiveMonitorRecord", b =>
+                {
+                    b.Property<string>("ProjectId")
+                        .HasMaxLength(40)
+                        .HasColumnType("TEXT");
+
+                    b.Property<string>("WorkerRef")
+                        .HasMaxLength(200)
+                        .HasColumnType("TEXT");
+
+                    b.Property<int>("Alarms")
+                        .HasColumnType("INTEGER");
+
+                    b.Property<int>("Checks")
+                        .HasColumnType("INTEGER");
+
+                    b.Property<int>("Errors")
+                        .HasColumnType("INTEGER");
+
+                    b.Property<string>("LastAlarm")
+                        .HasMaxLength(40)
+                        .HasColumnType("TEXT");
+
+                    b.Property<long?>("LastAlarmAt")
+                        .HasColumnType("INTEGER");
+
+                    b.Property<long>("LastAnsweredAt")
+                        .HasColumnType("INTEGER");
+
+                    b.Property<long>("LastCheckId")
+                        .HasColumnType("INTEGER");
+
+                    b.Property<int>("ModelVersion")
+                        .HasColumnType("INTEGER");
+
+                    b.Property<int>("Revision")
+                        .IsConcurrencyToken()
+                        .HasColumnType("INTEGER");
+
+                    b.Property<string>("SessionId")
+                        .IsRequired()
+                        .HasMaxLength(40)
+                        .HasColumnType("TEXT");
+
+                    b.Property<long>("StartedAt")
+                        .HasColumnType("INTEGER");
+
+                    b.Property<byte[]>("State")
+                        .IsRequired()
+                        .HasMaxLength(1024)
+                        .HasColumnType("BLOB");
+
+                    b.Property<string>("Status")
+                        .IsRequired()
+                        .HasMaxLength(16)
+                        .HasColumnType("TEXT");
+
+                    b.Property<long>("UpdatedAt")
+                        .HasColumnType("INTEGER");
+
+                    b.HasKey("ProjectId", "WorkerRef");
+
+                    b.ToTable("LiveMonitors", (string)null);
+                });
+
             modelBuilder.Entity("TeachServe.Server.Persistence.ServerSetting", b =>
                 {
                     b.Property<string>("Key")
@@ -720,6 +840,24 @@ namespace TeachServe.Server.Persistence.Migrations.Sqlite
                 });
 
             modelBuilder.Entity("TeachServe.Server.Items.Item", b =>
+                {
+                    b.HasOne("TeachServe.Server.Projects.Project", null)
+                        .WithMany()
+                        .HasForeignKey("ProjectId")
+                        .OnDelete(DeleteBehavior.Cascade)
+                        .IsRequired();
+                });
+
+            modelBuilder.Entity("TeachServe.Server.LiveQuality.LiveCheckRecord", b =>
+                {
+                    b.HasOne("TeachServe.Server.Projects.Project", null)
+                        .WithMany()
+                        .HasForeignKey("ProjectId")
+                        .OnDelete(DeleteBehavior.Cascade)
+                        .IsRequired();
+                });
+
+            modelBuilder.Entity("TeachServe.Server.LiveQuality.LiveMonitorRecord", b =>
                 {
                     b.HasOne("TeachServe.Server.Projects.Project", null)
                         .WithMany()

@@ -1,0 +1,36 @@
+using Microsoft.AspNetCore.Http.HttpResults;
+using TeachServe.Server.Auth;
+using TeachServe.Server.Contract;
+
+namespace TeachServe.Server.LiveQuality;
+
+/// <summary>The live-quality routes; <see cref="LiveQualityOperations"/> does the work.</summary>
+public static class LiveQualityApi
+{
+    public static RouteGroupBuilder MapLiveQuality(this IEndpointRouteBuilder api)
+    {
+        var group = api.MapGroup("/projects/{projectId}").WithTags("Live quality");
+        group.MapPost("/live-checks", PostLiveChecks).RequireKey(KeyRole.Embed).WithName("postLiveChecks")
+            .Problem(StatusCodes.Status409Conflict, "An outcome id was stored earlier with a different body; 'errors' names each index. Nothing was stored.")
+            .Problem(StatusCodes.Status422UnprocessableEntity, "The batch is empty or too long, or outcomes name an unknown worker, item or label; 'errors' names each index and field. Nothing was stored.")
+            .WithSummary("Report live-check outcomes of released annotators (1 to 1,000, stored all or none); retry-safe by outcome id.");
+        group.MapGet("/live-quality", ListLiveQuality).RequireKey(KeyRole.Owner).WithName("listLiveQuality")
+            .WithSummary("Every annotator with live checks: status, checks, live error with its Wilson 95 % interval, last alarm.");
+        group.MapGet("/live-quality/{workerRef}", GetLiveQuality).RequireKey(KeyRole.Owner).WithName("getLiveQuality")
+            .Problem(StatusCodes.Status404NotFound, "No live checks of this worker in the project.")
+            .WithSummary("One annotator's live quality and their outcomes in the order the monitor applied them (the newest 1,000).");
+        return group;
+    }
+
+    public static async Task<Results<Ok<LiveChecksStored>, ProblemHttpResult>> PostLiveChecks(
+        string projectId, LiveChecksRequest body, LiveQualityOperations live, CancellationToken ct) =>
+        (await live.PostAsync(projectId, body, ct)).Answer(TypedResults.Ok);
+
+    public static async Task<Results<Ok<LiveQualityView>, ProblemHttpResult>> ListLiveQuality(
+        string projectId, LiveQualityOperations live, CancellationToken ct) =>
+        (await live.ListAsync(projectId, ct)).Answer(TypedResults.Ok);
+
+    public static async Task<Results<Ok<LiveAnnotatorHistory>, ProblemHttpResult>> GetLiveQuality(
+        string projectId, string workerRef, LiveQualityOperations live, CancellationToken ct) =>
+        (await live.HistoryAsync(projectId, workerRef, ct)).Answer(TypedResults.Ok);
+}

@@ -1,0 +1,279 @@
+using Microsoft.EntityFrameworkCore;
+using TeachServe.Core.LiveQuality;
+using TeachServe.Core.Statistics;
+using TeachServe.Server.Events;
+using TeachServe.Server.Infrastructure;
+using TeachServe.Server.Persistence;
+using TeachServe.Server.Sessions;
+using TeachServe.Server.Versions;
+
+namespace TeachServe.Server.LiveQuality;
+
+/// <summary>
+/// Live checks of released annotators: storing the platform's outcomes (retry-safe, all or nothing per batch), the drift
+/// monitor of each annotator, and the owner's views. Problems are returned, not thrown.
+/// </summary>
+public sealed class LiveQualityOperations(TeachServeDb db, TimeProvider time, ModelVersionCache versions, LiveMonitors monitors)
+{
+    private const int Attempts = 3;
+
+    /// <summary>
+    /// Stores a batch in one transaction and applies each new outcome to its annotator's monitor, in order of answered
+    /// time then arrival. 422 with per-line errors when any outcome is invalid (nothing is stored); 409 when an outcome
+    /// id was stored before with a different body.
+    /// </summary>
+    public async Task<Outcome<LiveChecksStored>> PostAsync(string projectId, LiveChecksRequest request, CancellationToken ct)
+    {
+        var outcomes = request.Outcomes;
+        if (outcomes.Count is 0 or > LiveQualityLimits.MaxBatch)
+            return Problems.Unprocessable($"A batch holds 1 to {LiveQualityLimits.MaxBatch} outcomes; this one holds {outcomes.Count}.");
+        if (await ProjectScope.MissingProjectAsync(db, projectId, ct) is { } missing) return missing;
+
+        var checkedBatch = await ValidateAsync(projectId, outcomes, ct);
+        if (!checkedBatch.Succeeded) return checkedBatch.Problem;
+        var batch = checkedBatch.Value;
+
+        // A concurrent batch may store one of these ids, or move a monitor, between our read and our commit: the unique
+        // index or the monitor's revision then refuses the commit, and the batch is checked again from the start.
+        for (var attempt = 1; ; attempt++)
+        {
+            try
+            {
+                return await StoreAsync(projectId, batch, ct);
+            }
+            catch (DbUpdateException) when (attempt < Attempts)
+            {
+                db.ChangeTracker.Clear();
+            }
+        }
+    }
+
+    private sealed record ValidLine(int Index, LiveCheckInput Input, DateTimeOffset AnsweredAt, string KnownLabel, Releases.Release Release);
+
+    private async Task<Outcome<List<ValidLine>>> ValidateAsync(string projectId, IReadOnlyList<LiveCheckInput> outcomes, CancellationToken ct)
+    {
+        var errors = new List<LiveCheckError>();
+        for (var i = 0; i < outcomes.Count; i++)
+        {
+            var o = outcomes[i];
+            if (!Printable(o.OutcomeId, LiveQualityLimits.OutcomeIdLength))
+                errors.Add(new(i, "outcomeId", $"Must be 1 to {LiveQualityLimits.OutcomeIdLength} printable characters."));
+            if (!Printable(o.WorkerRef, SessionLimits.WorkerRefLength))
+                errors.Add(new(i, "workerRef", $"Must be 1 to {SessionLimits.WorkerRefLength} printable characters."));
+            if (o.ItemId.Length is 0 or > Items.ItemLimits.IdLength)
+                errors.Add(new(i, "itemId", $"Must be 1 to {Items.ItemLimits.IdLength} characters."));
+        }
+        if (errors.Count > 0) return Problems.Invalid("Some outcomes are not valid; nothing was stored.", errors);
+
+        var workers = outcomes.Select(o => o.WorkerRef).Distinct(StringComparer.Ordinal).ToList();
+        var itemIds = outcomes.Select(o => o.ItemId).Distinct(StringComparer.Ordinal).ToList();
+        // The latest release of each worker: a monitor continues from the session that released them last.
+        var releases = (await db.Releases.AsNoTracking().Where(r => r.ProjectId == projectId && workers.Contains(r.WorkerRef)).ToListAsync(ct))
+            .GroupBy(r => r.WorkerRef, StringComparer.Ordinal).ToDictionary(g => g.Key, g => g.MaxBy(r => r.Id)!, StringComparer.Ordinal);
+        var known = await db.Items.AsNoTracking().Where(i => i.ProjectId == projectId && itemIds.Contains(i.ItemId))
+            .ToDictionaryAsync(i => i.ItemId, i => i.Label, StringComparer.Ordinal, ct);
+        var labelsOf = new Dictionary<int, IReadOnlyDictionary<string, int>>();
+        foreach (var number in releases.Values.Select(r => r.ModelVersion).Distinct())
+            labelsOf[number] = (await versions.GetAsync(projectId, number, ct)).LabelIndex;
+
+        var lines = new List<ValidLine>(outcomes.Count);
+        var firstById = new Dictionary<string, int>(StringComparer.Ordinal);
+        for (var i = 0; i < outcomes.Count; i++)
+        {
+            var o = outcomes[i];
+            var release = releases.GetValueOrDefault(o.WorkerRef);
+            if (release is null) errors.Add(new(i, "workerRef", "No released session of this worker in the project."));
+            if (!known.TryGetValue(o.ItemId, out var knownLabel)) errors.Add(new(i, "itemId", "No such item in the project."));
+            if (release is not null && !labelsOf[release.ModelVersion].ContainsKey(o.Label))
+                errors.Add(new(i, "label", "Not one of the project's labels."));
+            var answeredAt = Millisecond(o.AnsweredAt);
+            if (firstById.TryGetValue(o.OutcomeId, out var first))
+            {
+                if (!Same(outcomes[first], o)) errors.Add(new(i, "outcomeId", $"Outcome {first} of this batch has the same id and a different body."));
+                continue;
+            }
+            firstById[o.OutcomeId] = i;
+            if (release is not null && knownLabel is not null) lines.Add(new(i, o, answeredAt, knownLabel, release));
+        }
+        if (errors.Count > 0) return Problems.Invalid("Some outcomes are not valid; nothing was stored.", errors);
+        return lines;
+    }
+
+    private async Task<Outcome<LiveChecksStored>> StoreAsync(string projectId, List<ValidLine> batch, CancellationToken ct)
+    {
+        var ids = batch.Select(l => l.Input.OutcomeId).ToList();
+        var stored = await db.LiveChecks.AsNoTracking().Where(c => c.ProjectId == projectId && ids.Contains(c.OutcomeId))
+            .ToDictionaryAsync(c => c.OutcomeId, StringComparer.Ordinal, ct);
+        var conflicts = new List<LiveCheckError>();
+        var fresh = new List<ValidLine>();
+        foreach (var line in batch)
+        {
+            if (!stored.TryGetValue(line.Input.OutcomeId, out var earlier)) fresh.Add(line);
+            else if (earlier.WorkerRef != line.Input.WorkerRef || earlier.ItemId != line.Input.ItemId
+                     || earlier.Label != line.Input.Label || earlier.AnsweredAt != line.AnsweredAt)
+                conflicts.Add(new(line.Index, "outcomeId", "An outcome with this id was stored earlier with a different body."));
+        }
+        if (conflicts.Count > 0)
+            return Problems.Conflict("Some outcome ids were stored earlier with different bodies; outcomes cannot be changed, and nothing was stored.",
+                new Dictionary<string, object?> { ["errors"] = conflicts });
+
+        var now = time.GetUtcNow();
+        await using var tx = await db.Database.BeginTransactionAsync(ct);
+        var rows = fresh.Select(l => new LiveCheckRecord
+        {
+            ProjectId = projectId, OutcomeId = l.Input.OutcomeId, WorkerRef = l.Input.WorkerRef, ItemId = l.Input.ItemId,
+            Label = l.Input.Label, KnownLabel = l.KnownLabel, Wrong = l.Input.Label != l.KnownLabel,
+            AnsweredAt = l.AnsweredAt, ReceivedAt = now,
+        }).ToList();
+        db.LiveChecks.AddRange(rows);
+        await db.SaveChangesAsync(ct);
+
+        var statuses = new List<LiveAnnotatorStatus>();
+        foreach (var group in fresh.Zip(rows).GroupBy(p => p.First.Input.WorkerRef, StringComparer.Ordinal))
+        {
+            var release = group.First().First.Release;
+            var monitor = await MonitorAsync(projectId, release, now, ct);
+            var record = await ApplyAsync(monitor, group.Select(p => p.Second).ToList(), now, ct);
+            statuses.Add(new LiveAnnotatorStatus(record.WorkerRef, record.Status, record.Checks));
+        }
+        await db.SaveChangesAsync(ct);
+        await tx.CommitAsync(ct);
+        return new LiveChecksStored(rows.Count, batch.Count - rows.Count, statuses);
+    }
+
+    /// <summary>The worker's monitor row; at their first live check, a new one in its start state.</summary>
+    private async Task<(LiveMonitorRecord Record, LiveMonitor Monitor)> MonitorAsync(
+        string projectId, Releases.Release release, DateTimeOffset now, CancellationToken ct)
+    {
+        var record = await db.LiveMonitors.FirstOrDefaultAsync(m => m.ProjectId == projectId && m.WorkerRef == release.WorkerRef, ct);
+        if (record is not null && record.SessionId == release.SessionId)
+            return (record, monitors.For(await versions.GetAsync(projectId, record.ModelVersion, ct)));
+
+        // First live check, or a later release (a new onboarding) than the one the monitor continued: start afresh.
+        var monitor = monitors.For(await versions.GetAsync(projectId, release.ModelVersion, ct));
+        var start = monitor.Start();
+        if (record is null)
+        {
+            record = new LiveMonitorRecord
+            {
+                ProjectId = projectId, WorkerRef = release.WorkerRef, SessionId = release.SessionId, State = start.ToBytes(),
+                Status = LiveStatusNames.Of(start.Status), StartedAt = now,
+            };
+            db.LiveMonitors.Add(record);
+        }
+        else
+        {
+            record.SessionId = release.SessionId;
+            record.State = start.ToBytes();
+            record.Status = LiveStatusNames.Of(start.Status);
+            (record.Checks, record.Errors, record.Alarms) = (0, 0, 0);
+            (record.LastAlarmAt, record.LastAlarm, record.LastCheckId) = (null, null, 0);
+            record.StartedAt = now;
+        }
+        record.ModelVersion = release.ModelVersion;
+        record.LastAnsweredAt = release.ReleasedAt;
+        return (record, monitor);
+    }
+
+    /// <summary>
+    /// Applies the new outcomes in order. When one was answered before the last outcome already applied, the state is
+    /// rebuilt from every outcome since the release instead (the log is the source of truth). Each status change is an
+    /// event of the project's log.
+    /// </summary>
+    private async Task<LiveMonitorRecord> ApplyAsync(
+        (LiveMonitorRecord Record, LiveMonitor Monitor) target, List<LiveCheckRecord> fresh,
+        DateTimeOffset now, CancellationToken ct)
+    {
+        var (record, monitor) = target;
+        var ordered = fresh.OrderBy(c => c.AnsweredAt).ThenBy(c => c.Id).ToList();
+        var inOrder = record.Checks == 0
+            || (ordered[0].AnsweredAt, ordered[0].Id).CompareTo((record.LastAnsweredAt, record.LastCheckId)) > 0;
+        var state = LiveMonitorState.FromBytes(record.State);
+        if (!inOrder)
+        {
+            // Every outcome since the monitor started, the new ones included (they are saved in this transaction).
+            ordered = await db.LiveChecks.Where(c => c.ProjectId == record.ProjectId && c.WorkerRef == record.WorkerRef && c.ReceivedAt >= record.StartedAt)
+                .OrderBy(c => c.AnsweredAt).ThenBy(c => c.Id).ToListAsync(ct);
+            state = monitor.Start();
+            (record.LastAlarmAt, record.LastAlarm) = (null, null);
+        }
+
+        foreach (var check in ordered)
+        {
+            var before = state.Status;
+            // The count monitors read only whether the answer was wrong (candidate charts, which need the model's item
+            // and label indices, are off: see LiveMonitors).
+            var step = monitor.Apply(state, new LiveCheck(null, check.Wrong ? 1 : 0, 0));
+            state = step.State;
+            if (step.Alarms != LiveAlarms.None)
+                (record.LastAlarmAt, record.LastAlarm) = (check.AnsweredAt, "count-cusum");
+            if (state.Status != before)
+            {
+                db.Events.Add(new SessionEvent
+                {
+                    ProjectId = record.ProjectId, SessionId = record.SessionId, WorkerRef = record.WorkerRef,
+                    Type = EventTypes.LiveStatusChanged, At = now,
+                    DataJson = Json.Serialize(new
+                    {
+                        from = LiveStatusNames.Of(before), to = LiveStatusNames.Of(state.Status), outcomeId = check.OutcomeId,
+                        answeredAt = check.AnsweredAt, checks = state.Checks, errors = state.Errors, alarm = step.Alarms != LiveAlarms.None,
+                        rebuilt = !inOrder,
+                    }),
+                });
+            }
+        }
+
+        var last = ordered[^1];
+        record.State = state.ToBytes();
+        record.Status = LiveStatusNames.Of(state.Status);
+        (record.Checks, record.Errors, record.Alarms) = (state.Checks, state.Errors, state.Alarms);
+        (record.LastAnsweredAt, record.LastCheckId) = (last.AnsweredAt, last.Id);
+        record.UpdatedAt = now;
+        record.Revision++;
+        return record;
+    }
+
+    /// <summary>Every monitored annotator of the project, by worker ref.</summary>
+    public async Task<Outcome<LiveQualityView>> ListAsync(string projectId, CancellationToken ct)
+    {
+        if (await ProjectScope.MissingProjectAsync(db, projectId, ct) is { } missing) return missing;
+        var rows = await db.LiveMonitors.AsNoTracking().Where(m => m.ProjectId == projectId).OrderBy(m => m.WorkerRef).ToListAsync(ct);
+        return new LiveQualityView(rows.Select(View).ToList());
+    }
+
+    /// <summary>One annotator's live quality and outcome history; 404 when they have no live checks.</summary>
+    public async Task<Outcome<LiveAnnotatorHistory>> HistoryAsync(string projectId, string workerRef, CancellationToken ct)
+    {
+        if (await ProjectScope.MissingProjectAsync(db, projectId, ct) is { } missing) return missing;
+        var record = await db.LiveMonitors.AsNoTracking().FirstOrDefaultAsync(m => m.ProjectId == projectId && m.WorkerRef == workerRef, ct);
+        if (record is null) return Problems.NotFound("No live checks of this worker in the project.");
+        var outcomes = await db.LiveChecks.AsNoTracking()
+            .Where(c => c.ProjectId == projectId && c.WorkerRef == workerRef && c.ReceivedAt >= record.StartedAt)
+            .OrderByDescending(c => c.AnsweredAt).ThenByDescending(c => c.Id).Take(LiveQualityLimits.HistoryLength)
+            .Select(c => new LiveOutcomeView(c.OutcomeId, c.ItemId, c.Label, c.KnownLabel, c.Wrong, c.AnsweredAt, c.ReceivedAt))
+            .ToListAsync(ct);
+        outcomes.Reverse();
+        return new LiveAnnotatorHistory(View(record), outcomes);
+    }
+
+    private static LiveAnnotatorView View(LiveMonitorRecord m)
+    {
+        Interval? interval = m.Checks > 0 ? ProportionIntervals.Wilson(m.Errors, m.Checks) : null;
+        return new LiveAnnotatorView(
+            m.WorkerRef, m.SessionId, m.ModelVersion, m.Status, m.Checks, m.Errors,
+            m.Checks > 0 ? (double)m.Errors / m.Checks : null, interval?.Low, interval?.High,
+            m.Alarms, m.LastAlarmAt, m.LastAlarm, m.StartedAt, m.LastAnsweredAt);
+    }
+
+    private static bool Same(LiveCheckInput a, LiveCheckInput b) =>
+        a.WorkerRef == b.WorkerRef && a.ItemId == b.ItemId && a.Label == b.Label && Millisecond(a.AnsweredAt) == Millisecond(b.AnsweredAt);
+
+    /// <summary>UTC, to the millisecond: both stores keep that exactly, so a retry compares equal to what was stored.</summary>
+    private static DateTimeOffset Millisecond(DateTimeOffset at)
+    {
+        var utc = at.ToUniversalTime();
+        return new DateTimeOffset(utc.Ticks - (utc.Ticks % TimeSpan.TicksPerMillisecond), TimeSpan.Zero);
+    }
+
+    private static bool Printable(string s, int max) => s.Length > 0 && s.Length <= max && !s.Any(char.IsControl);
+}
