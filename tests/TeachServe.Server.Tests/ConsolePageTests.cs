@@ -2,6 +2,8 @@ using System.Net;
 using System.Net.Http.Json;
 using System.Text.RegularExpressions;
 using Microsoft.AspNetCore.Mvc.Testing;
+using Microsoft.EntityFrameworkCore;
+using Microsoft.Extensions.DependencyInjection;
 using TeachServe.Server.OwnerConsole;
 
 namespace TeachServe.Server.Tests;
@@ -120,6 +122,28 @@ public sealed partial class ConsolePageTests
             // Teaching items are listed with how often they were shown.
             Assert.Matches("(?s)<table class=\"items-stats teaching-items\">.*<td>t\\d\\d</td><td class=\"num\">\\d+</td>", html);
         }
+    }
+
+[Fact]
+    public async Task Cost_per_release_counts_every_ended_session_paid_for_items_and_time_over_the_releases()
+    {
+        using var app = new TestApp();
+        var keys = await app.ReadyProjectAsync();
+        await TestApp.RunAsync(await app.StartSessionAsync(keys, "c-released"), (item, _) => TestApp.TruthOf(item));
+        var (failed, _) = await TestApp.RunAsync(await app.StartSessionAsync(keys, "c-failed"), (item, phase) =>
+            phase == "teaching" ? TestApp.TruthOf(item) : (TestApp.TruthOf(item) == "sound" ? "defect" : "sound"));
+        Assert.Equal("failed", failed["phase"]!.GetValue<string>());
+        await app.StartSessionAsync(keys, "c-running"); // not ended: not counted
+
+        var cost = new Core.Projects.CostSettings { PerTeachingItem = 0.3, PerTestItem = 0.7, PerMinute = 12 };
+        using var scope = app.Services.CreateScope();
+        var db = scope.ServiceProvider.GetRequiredService<Persistence.TeachServeDb>();
+        var stats = await ConsoleStats.ComputeAsync(db, keys.ProjectId, CancellationToken.None, cost: cost);
+        var ended = await db.Sessions.Where(s => s.ProjectId == keys.ProjectId && !s.IsActive).ToListAsync();
+        Assert.Equal(2, ended.Count);
+        var paid = ended.Sum(s => (s.TaughtCount * 0.3) + (s.TestAnswered * 0.7) + ((s.EndedAt!.Value - s.CreatedAt).TotalMinutes * 12));
+        Assert.Equal(paid / 1, stats.CostPerRelease!.Value, 9);
+        Assert.Null((await ConsoleStats.ComputeAsync(db, keys.ProjectId, CancellationToken.None)).CostPerRelease);
     }
 
     /// <summary>"name=value" of a Set-Cookie header, ready for a Cookie header.</summary>

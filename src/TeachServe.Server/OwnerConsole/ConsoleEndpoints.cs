@@ -73,7 +73,7 @@ public static class ConsoleEndpoints
         if (project is null) return SignInPage(http, forms, StatusCodes.Status200OK);
         // ?page=N pages the session table (a missing or unreadable number is the first page, one too high the last).
         var page = int.TryParse(http.Request.Query["page"], NumberStyles.Integer, CultureInfo.InvariantCulture, out var p) ? p : 1;
-        var stats = await ConsoleStats.ComputeAsync(db, project.Id, ct, page);
+        var stats = await ConsoleStats.ComputeAsync(db, project.Id, ct, page, ProjectOperations.Settings(project).Cost);
         var model = new OnboardingModel(project.Name, Token(http, forms), time.GetUtcNow(), stats,
             ProjectOperations.Settings(project).Gate.TargetError);
         return Render<OnboardingPage, OnboardingModel>(http, model, StatusCodes.Status200OK);

@@ -48,7 +48,8 @@ public sealed record OnboardingStats(
     int SessionsInPictures,
     int Page = 1,
     int TotalSessions = 0,
-    IReadOnlyList<ItemStat>? Items = null);
+    IReadOnlyList<ItemStat>? Items = null,
+    double? CostPerRelease = null);
 
 /// <summary>
 /// The live onboarding figures of one project. Counts cover every session; medians cover the most recent
@@ -63,7 +64,9 @@ public static class ConsoleStats
     public const int MinShownForSuspect = 5;
 
     /// <param name="page">Which page of the session table, newest first, <see cref="RecentRows"/> rows each (from 1).</param>
-    public static async Task<OnboardingStats> ComputeAsync(TeachServeDb db, string projectId, CancellationToken ct, int page = 1)
+    /// <param name="cost">The project's cost settings; with them, the cost per release of the recent ended sessions.</param>
+    public static async Task<OnboardingStats> ComputeAsync(TeachServeDb db, string projectId, CancellationToken ct, int page = 1,
+        Core.Projects.CostSettings? cost = null)
     {
         var sessions = db.Sessions.AsNoTracking().Where(s => s.ProjectId == projectId);
         var byPhase = (await sessions.GroupBy(s => s.Phase).Select(g => new { g.Key, Count = g.Count() }).ToListAsync(ct))
@@ -88,6 +91,20 @@ public static class ConsoleStats
             .Select(s => new SessionRow(SessionViews.Of(s, forAnnotator: false), s.EndedAt is { } end ? end - s.CreatedAt : null))
             .ToList();
 
+        double? costPerRelease = null;
+        if (cost is not null)
+        {
+            // What the platform paid for the recent ended sessions (items answered and measured time, failed sessions
+            // included: they are paid for too), per release among them.
+            var endedRows = await sessions.Where(s => s.Phase == Phases.Released || s.Phase == Phases.Failed)
+                .OrderByDescending(s => s.EndedAt).Take(MaxEnded)
+                .Select(s => new { s.Phase, s.TaughtCount, s.TestAnswered, s.CreatedAt, s.EndedAt }).ToListAsync(ct);
+            var releases = endedRows.Count(r => r.Phase == Phases.Released);
+            if (releases > 0)
+                costPerRelease = endedRows.Sum(r => (r.TaughtCount * cost.PerTeachingItem) + (r.TestAnswered * cost.PerTestItem)
+                    + ((r.EndedAt is { } end ? (end - r.CreatedAt).TotalMinutes : 0) * cost.PerMinute)) / releases;
+        }
+
         var ended = released + failed;
         Interval? interval = ended > 0 ? ProportionIntervals.Wilson(released, ended) : null;
         return new OnboardingStats(
@@ -96,7 +113,7 @@ public static class ConsoleStats
             interval,
             items.Count > 0 ? Median(items.Select(i => (double)i).ToList()) : null,
             minutes.Count > 0 ? TimeSpan.FromMinutes(Median(minutes)) : null,
-            items, calibration, curve, rows, recent.Count, page, total, itemStats);
+            items, calibration, curve, rows, recent.Count, page, total, itemStats, costPerRelease);
     }
 
     /// <summary>Median of a sorted list; the mean of the middle two for an even count.</summary>
