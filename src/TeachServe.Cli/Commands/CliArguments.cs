@@ -44,6 +44,32 @@ internal sealed class CliArguments
     public bool Has(string flag) => _flags.Contains(flag);
 
     public string? Value(string name) => _values.TryGetValue(name, out var v) ? v : null;
+
+    /// <summary>Reads <c>--learners</c> (1 to 1,000,000) into <paramref name="learners"/>, which keeps its default when absent.</summary>
+    public bool TryLearners(TextWriter error, ref int learners)
+    {
+        if (Value("--learners") is not { } text) return true;
+        if (int.TryParse(text, System.Globalization.CultureInfo.InvariantCulture, out var parsed) && parsed is >= 1 and <= 1_000_000)
+        {
+            learners = parsed;
+            return true;
+        }
+        error.WriteLine("--learners must be an integer between 1 and 1000000");
+        return false;
+    }
+
+    /// <summary>Reads <c>--seed</c> (a non-negative integer) into <paramref name="seed"/>, which keeps its default when absent.</summary>
+    public bool TrySeed(TextWriter error, ref ulong seed)
+    {
+        if (Value("--seed") is not { } text) return true;
+        if (ulong.TryParse(text, System.Globalization.CultureInfo.InvariantCulture, out var parsed))
+        {
+            seed = parsed;
+            return true;
+        }
+        error.WriteLine("--seed must be a non-negative integer");
+        return false;
+    }
 }
 
 internal static class CliJson

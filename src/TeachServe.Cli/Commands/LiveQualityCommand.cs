@@ -34,9 +34,8 @@ internal static class LiveQualityCommand
         }
 
         ulong seed = 1;
-        if (options.Value("--seed") is { } s && !ulong.TryParse(s, CultureInfo.InvariantCulture, out seed))
+        if (!options.TrySeed(error, ref seed))
         {
-            error.WriteLine("--seed must be a non-negative integer");
             return ExitCodes.Usage;
         }
 

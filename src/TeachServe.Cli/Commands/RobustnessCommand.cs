@@ -30,15 +30,13 @@ internal static class RobustnessCommand
 
         var learners = 1000;
         ulong seed = 1;
-        if (options.Value("--learners") is { } l && (!int.TryParse(l, CultureInfo.InvariantCulture, out learners) || learners < 1 || learners > 1_000_000))
+        if (!options.TryLearners(error, ref learners))
         {
-            error.WriteLine("--learners must be an integer between 1 and 1000000");
             return ExitCodes.Usage;
         }
 
-        if (options.Value("--seed") is { } s && !ulong.TryParse(s, CultureInfo.InvariantCulture, out seed))
+        if (!options.TrySeed(error, ref seed))
         {
-            error.WriteLine("--seed must be a non-negative integer");
             return ExitCodes.Usage;
         }
 

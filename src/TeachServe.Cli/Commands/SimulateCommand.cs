@@ -109,15 +109,13 @@ internal static class SimulateCommand
         seed = 1;
         variant = LearnerVariant.Assumed;
         blend = null;
-        if (options.Value("--learners") is { } l && (!int.TryParse(l, CultureInfo.InvariantCulture, out learners) || learners < 1 || learners > 1_000_000))
+        if (!options.TryLearners(error, ref learners))
         {
-            error.WriteLine("--learners must be an integer between 1 and 1000000");
             return false;
         }
 
-        if (options.Value("--seed") is { } s && !ulong.TryParse(s, CultureInfo.InvariantCulture, out seed))
+        if (!options.TrySeed(error, ref seed))
         {
-            error.WriteLine("--seed must be a non-negative integer");
             return false;
         }
 
