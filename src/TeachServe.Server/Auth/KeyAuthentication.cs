@@ -1,4 +1,7 @@
 using System.Security.Claims;
+using System.Text.Encodings.Web;
+using Microsoft.AspNetCore.Authentication;
+using Microsoft.AspNetCore.Mvc;
 using Microsoft.EntityFrameworkCore;
 using Microsoft.Extensions.Options;
 using TeachServe.Server.Infrastructure;
@@ -7,6 +10,47 @@ using TeachServe.Server.Sessions;
 using TeachServe.Server.Sessions.Store;
 
 namespace TeachServe.Server.Auth;
+
+/// <summary><c>Authorization: Bearer &lt;key&gt;</c> for all four kinds of key; challenges answer 401 problem details.</summary>
+public sealed class KeyAuthenticationHandler(
+    IOptionsMonitor<AuthenticationSchemeOptions> options,
+    ILoggerFactory logger,
+    UrlEncoder encoder,
+    KeyResolver resolver,
+    IProblemDetailsService problems) : AuthenticationHandler<AuthenticationSchemeOptions>(options, logger, encoder)
+{
+    public const string SchemeName = "TeachServeKey";
+
+    protected override async Task<AuthenticateResult> HandleAuthenticateAsync()
+    {
+        string? header = Request.Headers.Authorization;
+        if (string.IsNullOrEmpty(header)) return AuthenticateResult.NoResult();
+        if (!header.StartsWith("Bearer ", StringComparison.OrdinalIgnoreCase))
+            return AuthenticateResult.Fail("Use 'Authorization: Bearer <key>'.");
+        var check = await resolver.CheckAsync(header["Bearer ".Length..].Trim(), Context.RequestAborted);
+        if (check.SessionRow is { } row) Context.Features.Set(new SessionRowFeature(row));
+        return check.Principal is { } principal
+            ? AuthenticateResult.Success(new AuthenticationTicket(principal, SchemeName))
+            : AuthenticateResult.Fail(check.Failure!);
+    }
+
+    protected override async Task HandleChallengeAsync(AuthenticationProperties properties)
+    {
+        var result = await HandleAuthenticateOnceSafeAsync();
+        Response.StatusCode = StatusCodes.Status401Unauthorized;
+        Response.Headers.WWWAuthenticate = "Bearer";
+        await problems.WriteAsync(new ProblemDetailsContext
+        {
+            HttpContext = Context,
+            ProblemDetails = new ProblemDetails
+            {
+                Status = StatusCodes.Status401Unauthorized,
+                Title = "Unauthorized",
+                Detail = result.Failure?.Message ?? "This request needs 'Authorization: Bearer <key>'.",
+            },
+        });
+    }
+}
 
 /// <summary>Turns a presented bearer key into a principal, or says why it cannot.</summary>
 public sealed class KeyResolver(
@@ -67,4 +111,16 @@ public sealed record KeyCheck(ClaimsPrincipal? Principal, string? Failure, Sessi
     public static readonly KeyCheck Invalid = new(null, "The key is not valid.");
     public static readonly KeyCheck Expired = new(null, "The session token has expired after being idle; ask the platform for a new link.");
     public static KeyCheck Ok(ClaimsPrincipal principal, Session? sessionRow = null) => new(principal, null, sessionRow);
+}
+
+/// <summary>
+/// The session row that this request's token check read, carried in the request's features from the key check to
+/// the session operations, which use it instead of reading the row a second time. Set only for a session token.
+/// </summary>
+public sealed class SessionRowFeature(Session row)
+{
+    public Session Row { get; } = row;
+
+    /// <summary>The row read by this request's token check, if it was a session token's.</summary>
+    public static Session? Of(HttpContext http) => http.Features.Get<SessionRowFeature>()?.Row;
 }
