@@ -28,12 +28,11 @@ public static class AnnotateApi
         return group;
     }
 
-    public static async Task<Ok<LaunchExchanged>> Exchange(
+    public static async Task<Results<Ok<LaunchExchanged>, ProblemHttpResult>> Exchange(
         LaunchRequest body, HttpResponse response, TeachServeDb db, TimeProvider time, CancellationToken ct)
     {
-        var (sessionId, token) = await LaunchCodes.RedeemAsync(db, time, body.Code, ct);
         response.Headers.CacheControl = "no-store";
-        return TypedResults.Ok(new LaunchExchanged(sessionId, token));
+        return (await LaunchCodes.RedeemAsync(db, time, body.Code, ct)).Answer(TypedResults.Ok);
     }
 
     public static async Task<Results<Ok<GuidanceView>, ProblemHttpResult>> GetGuidance(string sessionId, TeachServeDb db, CancellationToken ct)

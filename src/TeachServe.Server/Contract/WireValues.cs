@@ -1,4 +1,3 @@
-using System.Text.Json;
 using System.Text.Json.Nodes;
 using Microsoft.AspNetCore.OpenApi;
 using Microsoft.OpenApi;
@@ -38,13 +37,6 @@ public sealed class WireValues : IOpenApiSchemaTransformer
         };
 
     /// <summary>
-    /// .NET enums that research results carry (simulations, fits, experiment reports). Those are written with
-    /// <see cref="Infrastructure.Json"/>, which spells enum members as kebab-case strings; the document would otherwise show
-    /// the integers of the server's default JSON options, which no response contains.
-    /// </summary>
-    public static readonly IReadOnlyList<Type> KebabCaseEnums = [typeof(LearnerVariant)];
-
-    /// <summary>
     /// The types research results are made of. <see cref="Infrastructure.Json"/> writes their undefined numbers (NaN, ±∞: "not
     /// enough data") as null, so their numbers are documented as nullable.
     /// </summary>
@@ -57,14 +49,13 @@ public sealed class WireValues : IOpenApiSchemaTransformer
 
     public Task TransformAsync(OpenApiSchema schema, OpenApiSchemaTransformerContext context, CancellationToken cancellationToken)
     {
-        IReadOnlyList<string>? values = null;
-        if (KebabCaseEnums.Contains(context.JsonTypeInfo.Type))
-        {
+        // .NET enums are written as kebab-case strings (Infrastructure.Json); the framework lists their names but leaves
+        // the schema without a type.
+        if (context.JsonTypeInfo.Type.IsEnum && schema.Enum is { Count: > 0 } && schema.Type is null)
             schema.Type = JsonSchemaType.String;
-            schema.Format = null;
-            values = Enum.GetNames(context.JsonTypeInfo.Type).Select(JsonNamingPolicy.KebabCaseLower.ConvertName).ToList();
-        }
-        else if (context.JsonPropertyInfo is { } property)
+
+        IReadOnlyList<string>? values = null;
+        if (context.JsonPropertyInfo is { } property)
             values = Properties.GetValueOrDefault((property.DeclaringType, property.Name));
         else if (context.ParameterDescription is { } parameter)
             values = Parameters.GetValueOrDefault(parameter.Name);

@@ -272,7 +272,7 @@ public sealed partial class SessionOperations(
         if (!await db.Projects.AnyAsync(p => p.Id == projectId, ct)) return SessionRefusal.NotFound("No such project.");
         var query = db.Sessions.AsNoTracking().Where(s => s.ProjectId == projectId);
         if (phase is not null) query = query.Where(s => s.Phase == phase);
-        if (after is not null) query = query.Where(s => string.Compare(s.Id, after) > 0);
+        if (after.Length > 0) query = query.Where(s => string.Compare(s.Id, after) > 0);
         var rows = await query.OrderBy(s => s.Id).Take(take + 1).ToListAsync(ct);
         var page = rows.Take(take).Select(s => SessionViews.Of(s, forAnnotator: false)).ToList();
         return new SessionPage(page, rows.Count > take ? Cursor.Encode(page[^1].SessionId) : null);
