@@ -34,6 +34,8 @@ public sealed class WireValues : IOpenApiSchemaTransformer
             [(typeof(ExperimentView), "status")] = ExperimentStatuses.All,
             [(typeof(SimulationView), "status")] = SimulationStatuses.All,
             [(typeof(HealthStatus), "status")] = HealthApi.Statuses,
+            [(typeof(StartSessionRequest), "purpose")] = SessionPurposes.All,
+            [(typeof(SessionView), "purpose")] = SessionPurposes.All,
         };
 
     /// <summary>

@@ -68,7 +68,8 @@ public static class ConsoleStats
     public static async Task<OnboardingStats> ComputeAsync(TeachServeDb db, string projectId, CancellationToken ct, int page = 1,
         Core.Projects.CostSettings? cost = null)
     {
-        var sessions = db.Sessions.AsNoTracking().Where(s => s.ProjectId == projectId);
+        // Onboarding only: refreshers (released annotators' short sessions) are shown on the live-quality page.
+        var sessions = db.Sessions.AsNoTracking().Where(s => s.ProjectId == projectId && s.Purpose == SessionPurposes.Onboarding);
         var byPhase = (await sessions.GroupBy(s => s.Phase).Select(g => new { g.Key, Count = g.Count() }).ToListAsync(ct))
             .ToDictionary(g => g.Key, g => g.Count, StringComparer.Ordinal);
         var released = byPhase.GetValueOrDefault(Phases.Released);
