@@ -66,13 +66,16 @@ public sealed class RefresherTests
         Assert.Equal("refresher", view["purpose"]!.GetValue<string>());
         Assert.Equal("adaptive", view["policy"]!.GetValue<string>());
 
-        // The live belief holds "defect everywhere": the first item taught is one that rule gets wrong (x < 10).
-        var first = await Api.JsonAsync(await session.Annotator.GetAsync($"/api/v1/sessions/{session.SessionId}/next"), 200);
-        Assert.Equal("teaching", first["phase"]!.GetValue<string>());
-        Assert.True(X(first["item"]!) < 10, $"first refresher item x = {X(first["item"]!)}");
-
-        var (final, responses) = await TestApp.RunAsync(session, (item, _) => TestApp.TruthOf(item));
+        // The live checks say "defect" below 10 too: teaching shows items below 10 (where the drifted rule errs), since
+        // only right answers there can convince the belief that the annotator no longer holds it.
+        var taught = new List<double>();
+        var (final, _) = await TestApp.RunAsync(session, (item, phase) =>
+        {
+            if (phase == "teaching") taught.Add(X(item));
+            return TestApp.TruthOf(item);
+        });
         Assert.Equal("released", final["phase"]!.GetValue<string>());
+        Assert.Contains(taught, x => x < 10);
         var ended = await Api.JsonAsync(await app.Client(keys.OwnerKey).GetAsync($"/api/v1/sessions/{session.SessionId}"), 200);
         Assert.InRange(ended["itemsTaught"]!.GetValue<int>(), 1, 10);
         Assert.Equal("reliable", await StatusAsync(app, keys, "w1"));
@@ -101,7 +104,8 @@ public sealed class RefresherTests
         await DriftUntilDueAsync(app, keys, "w2");
 
         var (_, session) = await StartRefresherAsync(app, keys, "w2");
-        var (final, _) = await TestApp.RunAsync(session!, (_, _) => "defect");
+        // Every answer wrong, so the check fails whatever items it draws.
+        var (final, _) = await TestApp.RunAsync(session!, (item, _) => TestApp.TruthOf(item) == "sound" ? "defect" : "sound");
         Assert.Equal("failed", final["phase"]!.GetValue<string>());
         Assert.Equal("paused", await StatusAsync(app, keys, "w2"));
 
