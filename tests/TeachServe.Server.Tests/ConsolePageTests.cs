@@ -20,11 +20,11 @@ public sealed partial class ConsolePageTests
         var project = TestApp.ProjectJson();
         project["name"] = "Seams & \"welds\" " + Markup;
         var keys = await app.ReadyProjectAsync(project);
-        await Api.JsonAsync(await app.Client(keys.EmbedKey).PostAsJsonAsync($"/api/v1/projects/{keys.ProjectId}/sessions", new { workerRef = Markup }), 201);
+        var started = await Api.JsonAsync(await app.Client(keys.EmbedKey).PostAsJsonAsync($"/api/v1/projects/{keys.ProjectId}/sessions", new { workerRef = Markup }), 201);
 
         var (client, cookies) = await SignInAsync(app, keys.OwnerKey);
 
-        foreach (var path in new[] { "/console", "/console/project" })
+        foreach (var path in new[] { "/console", "/console/project", $"/console/sessions/{started["sessionId"]!.GetValue<string>()}" })
         {
             using var request = new HttpRequestMessage(HttpMethod.Get, path);
             request.Headers.Add("Cookie", cookies);

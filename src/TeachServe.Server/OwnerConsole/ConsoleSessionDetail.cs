@@ -129,11 +129,10 @@ public static class ConsoleSessionDetail
             version.Settings.Gate.TargetError, answersWithCounts, attempts);
     }
 
-    /// <summary>The item's text, shortened; a picture-only item is named as such.</summary>
+    /// <summary>The item's text, shortened; none for a picture (its id names it).</summary>
     public static string? Describe(Core.Projects.ItemContent? content) => content switch
     {
         { Text: { Length: > 0 } text } => text.Length <= TextLength ? text : string.Concat(text.AsSpan(0, TextLength - 1), "…"),
-        { ImageUrl: not null } or { Svg: not null } => "(picture)",
         _ => null,
     };
 

@@ -31,7 +31,7 @@ public static class ConsoleVersionPlots
 
     /// <summary>
     /// One session's predicted error after each teaching answer (from the answer events), starting from the prior's
-    /// error, in the session's policy colour; the teaching answers that were wrong are marked with a cross; the
+    /// error, in the session's policy colour; the teaching answers that were wrong are marked with a large cross; the
     /// version's target as a dashed line. Test answers have no point: their figure is not recorded with them.
     /// </summary>
     public static Plot SessionPredictedError(SessionDetail detail)
@@ -51,13 +51,12 @@ public static class ConsoleVersionPlots
             ys.Add(pe);
         }
         var style = SeriesStyles.ForPolicy(detail.View.Policy);
+        // No legend: one line, named by the title, and the page's caption says what the crosses mean; a legend beside
+        // the data would take a third of a phone-sized picture.
         var plot = LearningCurves.Draw("Predicted error of this annotator", "predicted error",
-            [new CurveSeries("after each teaching answer", style, xs, ys)], detail.TargetError);
+            [new CurveSeries("", style, xs, ys)], detail.TargetError);
         var wrong = taught.Select((a, i) => (a, x: i + 1.0)).Where(t => !t.a.Correct && t.a.PredictedError is not null).ToList();
-        Marks.Points(plot, Mistake, wrong.Select(t => t.x).ToArray(), wrong.Select(t => t.a.PredictedError!.Value).ToArray());
-        PlotTheme.Legend(plot, wrong.Count == 0 || xs.Count == 0
-            ? [PlotTheme.LineItem("after each teaching answer", style)]
-            : [PlotTheme.LineItem("after each teaching answer", style), PlotTheme.PointItem("that answer was wrong", Mistake)]);
+        Marks.Points(plot, Mistake, wrong.Select(t => t.x).ToArray(), wrong.Select(t => t.a.PredictedError!.Value).ToArray(), Marks.MarkerSize + 4);
         return plot;
     }
 
