@@ -154,6 +154,8 @@ public sealed partial class ConsolePageTests
         await Api.JsonAsync(await owner.PatchAsync($"/api/v1/projects/{keys.ProjectId}",
             new StringContent("{\"gate\":{\"targetError\":0.2}}", Encoding.UTF8, "application/merge-patch+json")), 200);
         await Api.JsonAsync(await owner.PostAsync($"/api/v1/projects/{keys.ProjectId}/versions", null), 201);
+        // Started a minute later, so "newest first" has one answer (ids of one instant sort at random).
+        app.Time.Advance(TimeSpan.FromMinutes(1));
         await TestApp.RunAsync(await app.StartSessionAsync(keys, "w-v2"), (item, _) => TestApp.TruthOf(item));
 
         var (client, cookies) = await SignInAsync(app, keys.OwnerKey);
