@@ -38,6 +38,7 @@ public sealed record AttemptLine(
 /// <summary>Everything the per-annotator page shows of one session, read from its row and its events.</summary>
 public sealed record SessionDetail(
     SessionView View,
+    string Purpose,
     string? ExperimentId,
     int? Arm,
     string? ArmName,
@@ -125,7 +126,7 @@ public static class ConsoleSessionDetail
             ? attempts[k - 1].Answers.First(x => x.Step == a.Step)
             : a).ToList();
 
-        return new SessionDetail(view, session.ExperimentId, session.ArmIndex, armName, starting,
+        return new SessionDetail(view, session.Purpose, session.ExperimentId, session.ArmIndex, armName, starting,
             version.Settings.Gate.TargetError, answersWithCounts, attempts);
     }
 
