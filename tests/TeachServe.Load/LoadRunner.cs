@@ -73,6 +73,7 @@ public sealed class LoadRunner(LoadOptions options, TextWriter log) : IDisposabl
     public IReadOnlyList<StartedSession> Sessions { get { lock (_gate) return _sessions.ToList(); } }
     public string? ProjectId { get; private set; }
     public string? OwnerKey { get; private set; }
+    public string? EmbedKey { get; private set; }
 
     public void Dispose() => _http.Dispose();
 
@@ -80,7 +81,7 @@ public sealed class LoadRunner(LoadOptions options, TextWriter log) : IDisposabl
     {
         options.Validate();
         var (projectId, embedKey) = await ProjectAsync(ct);
-        ProjectId = projectId;
+        (ProjectId, EmbedKey) = (projectId, embedKey);
         if (options.Mode == LoadMode.LiveChecks) await ReleaseAllAsync(embedKey, ct);
 
         Phase? baseline = null;
