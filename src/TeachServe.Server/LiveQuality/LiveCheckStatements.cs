@@ -67,13 +67,13 @@ internal sealed class LiveCheckStatements : IDisposable
     public async Task InsertAsync(LiveCheckRecord row, CancellationToken ct)
     {
         Bind(_checkParameters, row);
-        row.Id = Convert.ToInt64(await _insertCheck.ExecuteScalarAsync(ct), System.Globalization.CultureInfo.InvariantCulture);
+        row.Id = Convert.ToInt64(await Refused(() => _insertCheck.ExecuteScalarAsync(ct)), System.Globalization.CultureInfo.InvariantCulture);
     }
 
     public async Task InsertAsync(LiveMonitorRecord record, CancellationToken ct)
     {
         Bind(_insertMonitorParameters, record);
-        await _insertMonitor.ExecuteNonQueryAsync(ct);
+        await Refused(() => _insertMonitor.ExecuteNonQueryAsync(ct));
     }
 
     /// <summary>Rewrites the monitor row if its revision is still <paramref name="revisionRead"/>; otherwise another writer moved it.</summary>
@@ -81,8 +81,24 @@ internal sealed class LiveCheckStatements : IDisposable
     {
         Bind(_updateMonitorParameters, record);
         _revisionRead.Value = revisionRead;
-        if (await _updateMonitor.ExecuteNonQueryAsync(ct) != 1)
+        if (await Refused(() => _updateMonitor.ExecuteNonQueryAsync(ct)) != 1)
             throw new DbUpdateConcurrencyException($"The live monitor of {record.WorkerRef} changed (or went) since it was read.");
+    }
+
+    /// <summary>
+    /// A refused write (another node stored the id, or the monitor, first) surfaces as SaveChanges would surface it,
+    /// a <see cref="DbUpdateException"/>, on which the writer stores the batch again on its own.
+    /// </summary>
+    private static async Task<T> Refused<T>(Func<Task<T>> write)
+    {
+        try
+        {
+            return await write();
+        }
+        catch (DbException e)
+        {
+            throw new DbUpdateException("The database refused a live-check write; nothing of the transaction was stored.", e);
+        }
     }
 
     public void Dispose()

@@ -17,9 +17,10 @@ public sealed class LiveQualityOperations(
     TeachServeDb db, TimeProvider time, ModelVersionCache versions, LiveMonitors monitors, LiveCheckWriter writer)
 {
     /// <summary>
-    /// Stores a batch in one transaction and applies each new outcome to its annotator's monitor, in order of answered
-    /// time then arrival. 422 with per-line errors when any outcome is invalid (nothing is stored); 409 when an outcome
-    /// id was stored before with a different body.
+    /// Validates a batch, then the live-check writer stores it all or nothing (in one transaction with the batches
+    /// waiting beside it, <see cref="StoreTogetherAsync"/>) and applies each new outcome to its annotator's monitor, in
+    /// order of answered time then arrival. 422 with per-line errors when any outcome is invalid (nothing is stored);
+    /// 409 when an outcome id was stored before with a different body.
     /// </summary>
     public async Task<Outcome<LiveChecksStored>> PostAsync(string projectId, LiveChecksRequest request, CancellationToken ct)
     {
