@@ -58,6 +58,50 @@ public sealed class LiveQualityTests
     }
 
     [Fact]
+    public async Task Batches_sent_at_once_are_each_all_or_nothing_and_every_outcome_is_counted_once()
+    {
+        using var app = new TestApp();
+        var keys = await app.ReadyProjectAsync();
+        await ReleaseAsync(app, keys, "w1");
+        await ReleaseAsync(app, keys, "w2");
+        // Sixteen batches at once (the writer stores whichever are waiting together): each has five outcomes of its own,
+        // answered in an order that interleaves the batches (so monitors are rebuilt), and the same "shared" outcome;
+        // batches 0 and 1 also carry "contested" with different labels, so whichever comes second is refused whole.
+        static object[] Batch(int b) =>
+        [
+            .. Enumerable.Range(0, 5).Select(k => Outcome($"b{b}-{k}", k % 2 == 0 ? "w1" : "w2", (b + k) % 20, Truth((b + k) % 20), (k * 16) + b)),
+            Outcome("shared", "w1", 3, "sound", 200),
+            .. b < 2 ? [Outcome("contested", "w2", 4, b == 0 ? "sound" : "defect", 201)] : Array.Empty<object>(),
+        ];
+        var responses = await Task.WhenAll(Enumerable.Range(0, 16).Select(b => PostAsync(app, keys, Batch(b))));
+
+        var codes = responses.Select(r => (int)r.StatusCode).ToList();
+        Assert.Equal([200, 409], codes.Take(2).Order());
+        Assert.All(codes.Skip(2), c => Assert.Equal(200, c));
+        var answers = new List<JsonNode>();
+        foreach (var r in responses.Where(r => r.IsSuccessStatusCode)) answers.Add(await Api.JsonAsync(r, 200));
+        // 15 accepted batches × 5, "shared" once, "contested" once; "shared" is a duplicate in the other 14.
+        Assert.Equal(77, answers.Sum(a => a["stored"]!.GetValue<int>()));
+        Assert.Equal(14, answers.Sum(a => a["duplicates"]!.GetValue<int>()));
+
+        var refused = codes[0] == 409 ? 0 : 1;
+        var h1 = await HistoryAsync(app, keys, "w1");
+        var h2 = await HistoryAsync(app, keys, "w2");
+        var ids = h1["outcomes"]!.AsArray().Concat(h2["outcomes"]!.AsArray()).Select(o => o!["outcomeId"]!.GetValue<string>()).ToList();
+        Assert.Equal(77, ids.Distinct().Count());
+        Assert.Equal(77, ids.Count);
+        Assert.DoesNotContain(ids, id => id.StartsWith($"b{refused}-", StringComparison.Ordinal));
+        Assert.Equal(77, h1["annotator"]!["checks"]!.GetValue<int>() + h2["annotator"]!["checks"]!.GetValue<int>());
+        foreach (var h in new[] { h1, h2 })
+            Assert.Equal(h["outcomes"]!.AsArray().Count, h["annotator"]!["checks"]!.GetValue<int>());
+        // Every outcome is right except "contested" with label defect (item 4 is sound), stored when batch 1 won.
+        var contested = codes[0] == 409 ? "defect" : "sound";
+        Assert.Equal(contested, h2["outcomes"]!.AsArray().Single(o => o!["outcomeId"]!.GetValue<string>() == "contested")!["label"]!.GetValue<string>());
+        Assert.Equal(0, h1["annotator"]!["errors"]!.GetValue<int>());
+        Assert.Equal(contested == "defect" ? 1 : 0, h2["annotator"]!["errors"]!.GetValue<int>());
+    }
+
+    [Fact]
     public async Task An_invalid_line_stores_nothing_of_the_batch_and_names_each_line()
     {
         using var app = new TestApp();
