@@ -17,12 +17,6 @@ public sealed class LiveQualityTests
 
     private static string Truth(int i) => i < 10 ? "sound" : "defect";
 
-    private static async Task ReleaseAsync(TestApp app, TestApp.Keys keys, string workerRef)
-    {
-        var (final, _) = await TestApp.RunAsync(await app.StartSessionAsync(keys, workerRef), (item, _) => TestApp.TruthOf(item));
-        Assert.Equal("released", final["phase"]!.GetValue<string>());
-    }
-
     private static object Outcome(string id, string worker, int item, string label, int minute) =>
         new { outcomeId = id, workerRef = worker, itemId = ItemId(item), label, answeredAt = Start.AddMinutes(minute) };
 
@@ -37,7 +31,7 @@ public sealed class LiveQualityTests
     {
         using var app = new TestApp();
         var keys = await app.ReadyProjectAsync();
-        await ReleaseAsync(app, keys, "w1");
+        await app.ReleaseAsync(keys, "w1");
 
         var batch = new[] { Outcome("o1", "w1", 2, "sound", 3), Outcome("o2", "w1", 12, "sound", 1), Outcome("o3", "w1", 4, "sound", 2) };
         var first = await Api.JsonAsync(await PostAsync(app, keys, batch), 200);
@@ -62,8 +56,8 @@ public sealed class LiveQualityTests
     {
         using var app = new TestApp();
         var keys = await app.ReadyProjectAsync();
-        await ReleaseAsync(app, keys, "w1");
-        await ReleaseAsync(app, keys, "w2");
+        await app.ReleaseAsync(keys, "w1");
+        await app.ReleaseAsync(keys, "w2");
         // Sixteen batches at once (the writer stores whichever are waiting together): each has five outcomes of its own,
         // answered in an order that interleaves the batches (so monitors are rebuilt), and the same "shared" outcome;
         // batches 0 and 1 also carry "contested" with different labels, so whichever comes second is refused whole.
@@ -106,7 +100,7 @@ public sealed class LiveQualityTests
     {
         using var app = new TestApp();
         var keys = await app.ReadyProjectAsync();
-        await ReleaseAsync(app, keys, "w1");
+        await app.ReleaseAsync(keys, "w1");
         await app.StartSessionAsync(keys, "still-learning");
 
         var problem = await Api.ProblemAsync(await PostAsync(app, keys,
@@ -132,8 +126,8 @@ public sealed class LiveQualityTests
     {
         using var app = new TestApp();
         var keys = await app.ReadyProjectAsync();
-        await ReleaseAsync(app, keys, "steady");
-        await ReleaseAsync(app, keys, "clicker");
+        await app.ReleaseAsync(keys, "steady");
+        await app.ReleaseAsync(keys, "clicker");
 
         var random = new SeededRandom(15);
         int? dueAfter = null;
@@ -181,8 +175,8 @@ public sealed class LiveQualityTests
     {
         using var app = new TestApp();
         var keys = await app.ReadyProjectAsync();
-        await ReleaseAsync(app, keys, "late");
-        await ReleaseAsync(app, keys, "ordered");
+        await app.ReleaseAsync(keys, "late");
+        await app.ReleaseAsync(keys, "ordered");
         // The same twenty answers, every fourth wrong: in time order each error is followed by three right answers,
         // which bring the chart back to zero (a wrong answer adds ln(0.5/0.12) ≈ 1.43 nats, a right one takes
         // ln(0.88/0.5) ≈ 0.57), so it never alarms. The late worker's five errors arrive after the right answers;
@@ -208,8 +202,8 @@ public sealed class LiveQualityTests
     {
         using var app = new TestApp();
         var keys = await app.ReadyProjectAsync();
-        await ReleaseAsync(app, keys, "gone");
-        await ReleaseAsync(app, keys, "kept");
+        await app.ReleaseAsync(keys, "gone");
+        await app.ReleaseAsync(keys, "kept");
         await Api.JsonAsync(await PostAsync(app, keys,
             Outcome("g1", "gone", 1, "defect", 1), Outcome("g2", "gone", 2, "defect", 2), Outcome("k1", "kept", 1, "sound", 1)), 200);
 
@@ -232,7 +226,7 @@ public sealed class LiveQualityTests
     {
         using var app = new TestApp();
         var keys = await app.ReadyProjectAsync();
-        await ReleaseAsync(app, keys, "w1");
+        await app.ReleaseAsync(keys, "w1");
         await Api.ProblemAsync(await app.Client(keys.OwnerKey).PostAsJsonAsync(
             $"/api/v1/projects/{keys.ProjectId}/live-checks", new { outcomes = new[] { Outcome("o1", "w1", 1, "sound", 1) } }), 403);
         await Api.JsonAsync(await PostAsync(app, keys, Outcome("o1", "w1", 1, "sound", 1)), 200);

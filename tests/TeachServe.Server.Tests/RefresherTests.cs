@@ -13,12 +13,6 @@ public sealed class RefresherTests
 {
     private static readonly DateTimeOffset Start = new(2026, 3, 1, 8, 0, 0, TimeSpan.Zero);
 
-    private static async Task ReleaseAsync(TestApp app, TestApp.Keys keys, string workerRef)
-    {
-        var (final, _) = await TestApp.RunAsync(await app.StartSessionAsync(keys, workerRef), (item, _) => TestApp.TruthOf(item));
-        Assert.Equal("released", final["phase"]!.GetValue<string>());
-    }
-
     /// <summary>The worker has drifted to "defect" for everything; live checks on teach items t00..t19 (x = 0..19) until the monitor calls for a refresher.</summary>
     private static async Task DriftUntilDueAsync(TestApp app, TestApp.Keys keys, string workerRef)
     {
@@ -57,7 +51,7 @@ public sealed class RefresherTests
     {
         using var app = new TestApp();
         var keys = await app.ReadyProjectAsync();
-        await ReleaseAsync(app, keys, "w1");
+        await app.ReleaseAsync(keys, "w1");
         await DriftUntilDueAsync(app, keys, "w1");
 
         var (started, session) = await StartRefresherAsync(app, keys, "w1");
@@ -100,7 +94,7 @@ public sealed class RefresherTests
     {
         using var app = new TestApp();
         var keys = await app.ReadyProjectAsync();
-        await ReleaseAsync(app, keys, "w2");
+        await app.ReleaseAsync(keys, "w2");
         await DriftUntilDueAsync(app, keys, "w2");
 
         var (_, session) = await StartRefresherAsync(app, keys, "w2");
@@ -128,7 +122,7 @@ public sealed class RefresherTests
     {
         using var app = new TestApp();
         var keys = await app.ReadyProjectAsync();
-        await ReleaseAsync(app, keys, "w3");
+        await app.ReleaseAsync(keys, "w3");
         await DriftUntilDueAsync(app, keys, "w3");
         var (_, session) = await StartRefresherAsync(app, keys, "w3");
 
@@ -169,7 +163,7 @@ public sealed class RefresherTests
     {
         using var app = new TestApp();
         var keys = await app.ReadyProjectAsync();
-        await ReleaseAsync(app, keys, "w4");
+        await app.ReleaseAsync(keys, "w4");
         await DriftUntilDueAsync(app, keys, "w4");
         await StartRefresherAsync(app, keys, "w4");
 
