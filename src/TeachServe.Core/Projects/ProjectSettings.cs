@@ -145,6 +145,12 @@ public sealed record GateSettings
     /// cases is covered) or <c>policy</c> (the policy's own choice).
     /// </summary>
     public string Remediation { get; init; } = RemediationModes.Representative;
+    /// <summary>
+    /// The adaptive policy's preference for typical items: each positive gain is multiplied by the item's typicality
+    /// (the share of rules within target + delta/2 that label it right, see <c>ItemTypicality</c>) to this power, so
+    /// exceptions that only the target and a few close rules get right come later; 0 turns it off.
+    /// </summary>
+    public double TypicalityWeight { get; init; } = 1.0;
 }
 
 public static class RemediationModes
