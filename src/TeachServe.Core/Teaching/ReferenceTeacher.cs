@@ -66,13 +66,31 @@ internal static class ReferenceTeacher
     /// </summary>
     public static int ChooseAdaptive(ModelVersion model, double[] belief, double[] learner, double q, double blend, bool[] shown, double[]? itemWeights = null)
     {
-        var err = model.Error;
+        var gains = AdaptiveGains(model, belief, learner, q, blend, shown, itemWeights);
         var best = -1;
         var bestGain = double.NegativeInfinity;
+        for (var x = 0; x < gains.Length; x++)
+        {
+            if (!shown[x] && gains[x] > bestGain)
+            {
+                bestGain = gains[x];
+                best = x;
+            }
+        }
+
+        return best;
+    }
+
+    /// <summary>The adaptive gain of every teach item (shown ones: −∞), by explicit sums.</summary>
+    public static double[] AdaptiveGains(ModelVersion model, double[] belief, double[] learner, double q, double blend, bool[] shown, double[]? itemWeights = null)
+    {
+        var err = model.Error;
+        var gains = new double[model.TeachCount];
         for (var x = 0; x < model.TeachCount; x++)
         {
             if (shown[x])
             {
+                gains[x] = double.NegativeInfinity;
                 continue;
             }
 
@@ -99,13 +117,9 @@ internal static class ReferenceTeacher
                 gain *= itemWeights[x];
             }
 
-            if (gain > bestGain)
-            {
-                bestGain = gain;
-                best = x;
-            }
+            gains[x] = gain;
         }
 
-        return best;
+        return gains;
     }
 }

@@ -303,7 +303,8 @@ public sealed class SessionRun
     private int ChooseNext() =>
         _remediating && Options.Gate.Remediation == RemediationModes.Representative
             ? _representative.ChooseNext(_belief, _shown, _taught.Count, _random)
-            : _policy.ChooseNext(_belief, _shown, _taught.Count, _random);
+            : _policy.ChooseNext(_belief, _shown, _taught.Count, _random,
+                _taught.Count < Options.OpeningVariety ? Options.OpeningTolerance : 0);
 
     private void BeginTest()
     {

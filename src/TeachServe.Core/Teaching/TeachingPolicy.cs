@@ -43,7 +43,12 @@ public sealed class TeachingPolicy
     /// <param name="belief">The session's belief (adaptive uses β and Q; the greedy rules use Q).</param>
     /// <param name="shown">Teach items already shown, indexed by item.</param>
     /// <param name="taught">How many teach items were shown, in order (prefix of the precomputed orders).</param>
-    public int ChooseNext(Belief belief, ReadOnlySpan<bool> shown, int taught, SeededRandom random)
+    /// <param name="tolerance">
+    /// Adaptive only: with a value above 0, one item drawn uniformly with <paramref name="random"/> among those whose gain
+    /// is at least (1 − tolerance) × the best gain, instead of the first best (so that annotators do not all see the
+    /// same opening items where several are almost as good).
+    /// </param>
+    public int ChooseNext(Belief belief, ReadOnlySpan<bool> shown, int taught, SeededRandom random, double tolerance = 0)
     {
         if (taught >= _model.TeachCount)
         {
@@ -71,7 +76,7 @@ public sealed class TeachingPolicy
 
                 return Greedy(belief, shown);
             default:
-                return Adaptive(belief, shown);
+                return Adaptive(belief, shown, tolerance > 0 ? (tolerance, random) : null);
         }
     }
 
@@ -87,7 +92,7 @@ public sealed class TeachingPolicy
     /// masked sums per candidate over the mistake bits. With item weights, a positive gain is multiplied by the item's
     /// weight (typical items first); a gain of zero or less is left as it is, so a weight never makes an item look useful.
     /// </summary>
-    private int Adaptive(Belief belief, ReadOnlySpan<bool> shown)
+    private int Adaptive(Belief belief, ReadOnlySpan<bool> shown, (double Tolerance, SeededRandom Random)? near = null)
     {
         var beta = belief.Weights;
         var learner = belief.LearnerWeights;
@@ -155,10 +160,35 @@ public sealed class TeachingPolicy
                     gain *= _itemWeights[rows[k]];
                 }
 
+                if (near is not null)
+                {
+                    sums[k] = gain; // slot k holds a sum of candidate k / 4 ≤ k, already read
+                }
+
                 if (gain > bestGain)
                 {
                     bestGain = gain;
                     best = rows[k];
+                }
+            }
+
+            if (near is { } n && bestGain > 0)
+            {
+                var floor = bestGain * (1 - n.Tolerance);
+                var close = 0;
+                for (var k = 0; k < count; k++)
+                {
+                    close += sums[k] >= floor ? 1 : 0;
+                }
+
+                var pick = n.Random.NextInt(close);
+                for (var k = 0; k < count; k++)
+                {
+                    if (sums[k] >= floor && pick-- == 0)
+                    {
+                        best = rows[k];
+                        break;
+                    }
                 }
             }
         }

@@ -17,9 +17,10 @@ public sealed class SessionLoader(ModelVersionCache versions, SessionStateCache 
     /// <param name="refresher">For a refresher, where it starts (stored with it); <paramref name="weights"/> unpacked, if at hand.</param>
     public static SessionOptions Options(
         CompiledVersion version, Session session, IReadOnlyList<double>? testAdministration,
-        LiveQuality.RefresherStart? refresher = null, double[]? weights = null)
+        LiveQuality.RefresherStart? refresher = null, double[]? weights = null, int openingVariety = 0)
     {
-        var options = SessionOptions.FromProject(version.Settings, unchecked((ulong)session.Seed)) with { TestAdministration = testAdministration };
+        var options = SessionOptions.FromProject(version.Settings, unchecked((ulong)session.Seed))
+            with { TestAdministration = testAdministration, OpeningVariety = openingVariety };
         if (refresher is not null)
         {
             var settings = new Core.LiveQuality.RefresherSettings { TargetRuleError = version.Settings.Gate.TargetError, MaxItems = refresher.MaxItems };
@@ -39,6 +40,14 @@ public sealed class SessionLoader(ModelVersionCache versions, SessionStateCache 
         return (version, run);
     }
 
+    /// <summary>The opening variety the session started with, from its start event (none for sessions older than the setting).</summary>
+    private static async Task<int> OpeningVarietyAsync(TeachServeDb db, string sessionId, CancellationToken ct)
+    {
+        var started = await db.Events.AsNoTracking().Where(e => e.SessionId == sessionId && e.Type == EventTypes.SessionStarted)
+            .Select(e => e.DataJson).FirstOrDefaultAsync(ct);
+        return started is not null && JsonDocument.Parse(started).RootElement.TryGetProperty("openingVariety", out var v) ? v.GetInt32() : 0;
+    }
+
     /// <summary>Rebuilds the state from the event log alone (DESIGN 3: the log is the source of truth).</summary>
     public static async Task<SessionRun> ReplayAsync(TeachServeDb db, CompiledVersion version, Session session, CancellationToken ct)
     {
@@ -52,7 +61,7 @@ public sealed class SessionLoader(ModelVersionCache versions, SessionStateCache 
         var refresher = session.Purpose == SessionPurposes.Refresher
             ? await db.RefresherStarts.AsNoTracking().FirstAsync(r => r.SessionId == session.Id, ct)
             : null;
-        var run = SessionRun.Replay(version.Model, Options(version, session, administration, refresher), labels);
+        var run = SessionRun.Replay(version.Model, Options(version, session, administration, refresher, openingVariety: await OpeningVarietyAsync(db, session.Id, ct)), labels);
         if (run.Step != session.Step)
             throw new InvalidOperationException($"Session {session.Id} has {run.Step} answer events but is at step {session.Step}.");
         return run;
