@@ -1,11 +1,16 @@
 using Microsoft.EntityFrameworkCore;
+using Microsoft.Extensions.Options;
 using TeachServe.Core.LiveQuality;
+using TeachServe.Core.Projects;
 using TeachServe.Core.Statistics;
 using TeachServe.Server.Events;
 using TeachServe.Server.Infrastructure;
+using TeachServe.Server.Items;
 using TeachServe.Server.Persistence;
+using TeachServe.Server.Projects;
 using TeachServe.Server.Sessions;
 using TeachServe.Server.Versions;
+using TeachServe.Server.Webhooks;
 
 namespace TeachServe.Server.LiveQuality;
 
@@ -13,7 +18,8 @@ namespace TeachServe.Server.LiveQuality;
 /// Live checks of released annotators: storing the platform's outcomes (retry-safe, all or nothing per batch), the drift
 /// monitor of each annotator, and the owner's views. Problems are returned, not thrown.
 /// </summary>
-public sealed class LiveQualityOperations(TeachServeDb db, TimeProvider time, ModelVersionCache versions, LiveMonitors monitors)
+public sealed class LiveQualityOperations(
+    TeachServeDb db, TimeProvider time, ModelVersionCache versions, LiveMonitors monitors, OutboxSignal outbox, IOptions<TeachServeOptions> options)
 {
     private const int Attempts = 3;
 
@@ -48,7 +54,9 @@ public sealed class LiveQualityOperations(TeachServeDb db, TimeProvider time, Mo
         }
     }
 
-    private sealed record ValidLine(int Index, LiveCheckInput Input, DateTimeOffset AnsweredAt, string KnownLabel, Releases.Release Release);
+    /// <param name="Inline">The item the outcome carries inline, to store in pool <c>live</c> unless already stored.</param>
+    private sealed record ValidLine(int Index, LiveCheckInput Input, DateTimeOffset AnsweredAt, string KnownLabel, Releases.Release Release,
+        ItemDefinition? Inline = null);
 
     private async Task<Outcome<List<ValidLine>>> ValidateAsync(string projectId, IReadOnlyList<LiveCheckInput> outcomes, CancellationToken ct)
     {
@@ -72,6 +80,7 @@ public sealed class LiveQualityOperations(TeachServeDb db, TimeProvider time, Mo
             .GroupBy(r => r.WorkerRef, StringComparer.Ordinal).ToDictionary(g => g.Key, g => g.MaxBy(r => r.Id)!, StringComparer.Ordinal);
         var known = await db.Items.AsNoTracking().Where(i => i.ProjectId == projectId && itemIds.Contains(i.ItemId))
             .ToDictionaryAsync(i => i.ItemId, i => i.Label, StringComparer.Ordinal, ct);
+        var inline = await InlineItemsAsync(projectId, outcomes, errors, ct);
         var labelsOf = new Dictionary<int, IReadOnlyDictionary<string, int>>();
         foreach (var number in releases.Values.Select(r => r.ModelVersion).Distinct())
             labelsOf[number] = (await versions.GetAsync(projectId, number, ct)).LabelIndex;
@@ -83,7 +92,8 @@ public sealed class LiveQualityOperations(TeachServeDb db, TimeProvider time, Mo
             var o = outcomes[i];
             var release = releases.GetValueOrDefault(o.WorkerRef);
             if (release is null) errors.Add(new(i, "workerRef", "No released session of this worker in the project."));
-            if (!known.TryGetValue(o.ItemId, out var knownLabel)) errors.Add(new(i, "itemId", "No such item in the project."));
+            var knownLabel = inline.TryGetValue(o.ItemId, out var carried) ? carried.Label : known.GetValueOrDefault(o.ItemId);
+            if (knownLabel is null) errors.Add(new(i, "itemId", "No such item in the project, and the outcome carries no 'item'."));
             if (release is not null && !labelsOf[release.ModelVersion].ContainsKey(o.Label))
                 errors.Add(new(i, "label", "Not one of the project's labels."));
             var answeredAt = Millisecond(o.AnsweredAt);
@@ -93,10 +103,77 @@ public sealed class LiveQualityOperations(TeachServeDb db, TimeProvider time, Mo
                 continue;
             }
             firstById[o.OutcomeId] = i;
-            if (release is not null && knownLabel is not null) lines.Add(new(i, o, answeredAt, knownLabel, release));
+            if (release is not null && knownLabel is not null) lines.Add(new(i, o, answeredAt, knownLabel, release, o.Item is null ? null : carried));
         }
-        if (errors.Count > 0) return Problems.Invalid("Some outcomes are not valid; nothing was stored.", errors);
+        if (errors.Count > 0) return Problems.Invalid("Some outcomes are not valid; nothing was stored.", errors.OrderBy(e => e.Index).ToList());
         return lines;
+    }
+
+    /// <summary>
+    /// The items the outcomes carry inline, by id, checked as an upload's items are (<see cref="ItemParsing.Check"/>):
+    /// each problem is added to <paramref name="errors"/> with the outcome's index and <c>item.</c> before the field. An id
+    /// carried twice in the batch must carry the same item.
+    /// </summary>
+    private async Task<Dictionary<string, ItemDefinition>> InlineItemsAsync(
+        string projectId, IReadOnlyList<LiveCheckInput> outcomes, List<LiveCheckError> errors, CancellationToken ct)
+    {
+        var items = new Dictionary<string, ItemDefinition>(StringComparer.Ordinal);
+        var firstOf = new Dictionary<string, int>(StringComparer.Ordinal);
+        var (checks, indices) = (new List<ItemDefinition>(), new List<int>());
+        for (var i = 0; i < outcomes.Count; i++)
+        {
+            if (outcomes[i].Item is not { } item) continue;
+            var definition = item.Definition(outcomes[i].ItemId);
+            if (firstOf.TryGetValue(definition.Id, out var first))
+            {
+                if (Json.Serialize(items[definition.Id]) != Json.Serialize(definition))
+                    errors.Add(new(i, "item", $"Outcome {first} of this batch carries another item under the same id."));
+                continue;
+            }
+            firstOf[definition.Id] = i;
+            items[definition.Id] = definition;
+            checks.Add(definition);
+            indices.Add(i);
+        }
+        if (items.Count == 0) return items;
+
+        var project = await db.Projects.AsNoTracking().FirstAsync(p => p.Id == projectId, ct);
+        foreach (var problem in ItemParsing.Check(ProjectOperations.Settings(project), checks, indices))
+            errors.Add(new(problem.Line ?? 0, problem.Field == "id" ? "itemId" : "item." + problem.Field, problem.Reason));
+        return items;
+    }
+
+    /// <summary>
+    /// The inline items not stored yet, as rows to add with the batch; an item stored earlier under the same id with other
+    /// content (or in another pool) adds a 409 line to <paramref name="conflicts"/>. 422 when the project would hold more
+    /// items than it may.
+    /// </summary>
+    private async Task<Outcome<List<Item>>> NewLiveItemsAsync(
+        string projectId, List<ValidLine> batch, List<LiveCheckError> conflicts, CancellationToken ct)
+    {
+        var carried = batch.Where(l => l.Inline is not null).DistinctBy(l => l.Inline!.Id, StringComparer.Ordinal).ToList();
+        if (carried.Count == 0) return new List<Item>();
+        var ids = carried.Select(l => l.Inline!.Id).ToList();
+        var stored = await db.Items.AsNoTracking().Where(i => i.ProjectId == projectId && ids.Contains(i.ItemId))
+            .ToDictionaryAsync(i => i.ItemId, i => i.Json, StringComparer.Ordinal, ct);
+        var now = time.GetUtcNow();
+        var rows = new List<Item>();
+        foreach (var line in carried)
+        {
+            var json = Json.Serialize(line.Inline!);
+            if (!stored.TryGetValue(line.Inline!.Id, out var earlier))
+                rows.Add(new Item { ProjectId = projectId, ItemId = line.Inline.Id, Pool = Pools.Live, Label = line.Inline.Label, Json = json, UpdatedAt = now });
+            else if (earlier != json)
+                conflicts.Add(new(line.Index, "item", "An item with this id is stored with other content or in another pool; items carried by outcomes are never changed."));
+        }
+        if (rows.Count > 0)
+        {
+            var limit = options.Value.Uploads.MaxItemsPerProject;
+            var count = await db.Items.CountAsync(i => i.ProjectId == projectId, ct);
+            if (count + rows.Count > limit)
+                return Problems.Unprocessable($"A project may hold at most {limit} items; this batch's items would make {count + rows.Count}. Nothing was stored.");
+        }
+        return rows;
     }
 
     private async Task<Outcome<LiveChecksStored>> StoreAsync(string projectId, List<ValidLine> batch, CancellationToken ct)
@@ -113,12 +190,16 @@ public sealed class LiveQualityOperations(TeachServeDb db, TimeProvider time, Mo
                      || earlier.Label != line.Input.Label || earlier.AnsweredAt != line.AnsweredAt)
                 conflicts.Add(new(line.Index, "outcomeId", "An outcome with this id was stored earlier with a different body."));
         }
+        var newItems = await NewLiveItemsAsync(projectId, batch, conflicts, ct);
+        if (!newItems.Succeeded) return newItems.Problem;
         if (conflicts.Count > 0)
-            return Problems.Conflict("Some outcome ids were stored earlier with different bodies; outcomes cannot be changed, and nothing was stored.",
-                new Dictionary<string, object?> { ["errors"] = conflicts });
+            return Problems.Conflict("Some outcome ids or items were stored earlier with different bodies; outcomes and their items cannot be changed, and nothing was stored.",
+                new Dictionary<string, object?> { ["errors"] = conflicts.OrderBy(c => c.Index).ToList() });
+        var project = await db.Projects.AsNoTracking().FirstAsync(p => p.Id == projectId, ct);
 
         var now = time.GetUtcNow();
         await using var tx = await db.Database.BeginTransactionAsync(ct);
+        db.Items.AddRange(newItems.Value);
         var rows = fresh.Select(l => new LiveCheckRecord
         {
             ProjectId = projectId, OutcomeId = l.Input.OutcomeId, WorkerRef = l.Input.WorkerRef, ItemId = l.Input.ItemId,
@@ -129,16 +210,21 @@ public sealed class LiveQualityOperations(TeachServeDb db, TimeProvider time, Mo
         await db.SaveChangesAsync(ct);
 
         var statuses = new List<LiveAnnotatorStatus>();
+        var webhooks = 0;
         foreach (var group in fresh.Zip(rows).GroupBy(p => p.First.Input.WorkerRef, StringComparer.Ordinal))
         {
             var release = group.First().First.Release;
             var monitor = await MonitorAsync(projectId, release, now, ct);
-            var record = await ApplyAsync(monitor, group.Select(p => p.Second).ToList(), now, ct);
+            var statusBefore = monitor.Record.Status;
+            var log = new ApplyLog();
+            var record = await ApplyAsync(monitor, group.Select(p => p.Second).ToList(), now, ct, log);
+            webhooks += LiveStatusWebhooks.Add(db, project, record, statusBefore, log.Changes, log.Rebuilt, log.Last!, now);
             statuses.Add(new LiveAnnotatorStatus(record.WorkerRef, record.Status, record.Checks));
         }
         await db.SaveChangesAsync(ct);
         await tx.CommitAsync(ct);
-        return new LiveChecksStored(rows.Count, batch.Count - rows.Count, statuses);
+        if (webhooks > 0) outbox.Notify();
+        return new LiveChecksStored(rows.Count, batch.Count - rows.Count, statuses, newItems.Value.Count);
     }
 
     /// <summary>The worker's monitor row; at their first live check, a new one in its start state.</summary>
@@ -182,7 +268,7 @@ public sealed class LiveQualityOperations(TeachServeDb db, TimeProvider time, Mo
     /// </summary>
     private async Task<LiveMonitorRecord> ApplyAsync(
         (LiveMonitorRecord Record, LiveMonitor Monitor) target, List<LiveCheckRecord> fresh,
-        DateTimeOffset now, CancellationToken ct)
+        DateTimeOffset now, CancellationToken ct, ApplyLog? log = null)
     {
         var (record, monitor) = target;
         var ordered = fresh.OrderBy(c => c.AnsweredAt).ThenBy(c => c.Id).ToList();
@@ -208,22 +294,12 @@ public sealed class LiveQualityOperations(TeachServeDb db, TimeProvider time, Mo
             if (step.Alarms != LiveAlarms.None)
                 (record.LastAlarmAt, record.LastAlarm) = (check.AnsweredAt, "count-cusum");
             if (state.Status != before)
-            {
-                db.Events.Add(new SessionEvent
-                {
-                    ProjectId = record.ProjectId, SessionId = record.SessionId, WorkerRef = record.WorkerRef,
-                    Type = EventTypes.LiveStatusChanged, At = now,
-                    DataJson = Json.Serialize(new
-                    {
-                        from = LiveStatusNames.Of(before), to = LiveStatusNames.Of(state.Status), outcomeId = check.OutcomeId,
-                        answeredAt = check.AnsweredAt, checks = state.Checks, errors = state.Errors, alarm = step.Alarms != LiveAlarms.None,
-                        rebuilt = !inOrder,
-                    }),
-                });
-            }
+                StatusChanged(record, new LiveStatusChange(LiveStatusNames.Of(before), LiveStatusNames.Of(state.Status), check.OutcomeId,
+                    check.AnsweredAt, state.Checks, state.Errors, step.Alarms != LiveAlarms.None), !inOrder, now, log);
         }
 
         var last = ordered[^1];
+        if (log is not null) (log.Rebuilt, log.Last) = (!inOrder, last);
         record.State = state.ToBytes();
         record.Status = LiveStatusNames.Of(state.Status);
         (record.Checks, record.Errors, record.Alarms) = (state.Checks, state.Errors, state.Alarms);
@@ -233,12 +309,58 @@ public sealed class LiveQualityOperations(TeachServeDb db, TimeProvider time, Mo
         return record;
     }
 
+    /// <summary>What <see cref="ApplyAsync"/> did to one monitor: its status changes in order, whether it rebuilt the state, the last outcome applied.</summary>
+    private sealed class ApplyLog
+    {
+        public List<LiveStatusChange> Changes { get; } = [];
+        public bool Rebuilt { get; set; }
+        public LiveCheckRecord? Last { get; set; }
+    }
+
+    /// <summary>A status change is an event of the project's log (and, through <see cref="ApplyLog"/>, a webhook delivery).</summary>
+    private void StatusChanged(LiveMonitorRecord record, LiveStatusChange change, bool rebuilt, DateTimeOffset now, ApplyLog? log)
+    {
+        db.Events.Add(new SessionEvent
+        {
+            ProjectId = record.ProjectId, SessionId = record.SessionId, WorkerRef = record.WorkerRef,
+            Type = EventTypes.LiveStatusChanged, At = now,
+            DataJson = Json.Serialize(new
+            {
+                from = change.From, to = change.To, outcomeId = change.OutcomeId, answeredAt = change.AnsweredAt,
+                checks = change.Checks, errors = change.Errors, alarm = change.Alarm, rebuilt,
+            }),
+        });
+        log?.Changes.Add(change);
+    }
+
     /// <summary>Every monitored annotator of the project, by worker ref.</summary>
     public async Task<Outcome<LiveQualityView>> ListAsync(string projectId, CancellationToken ct)
     {
         if (await ProjectScope.MissingProjectAsync(db, projectId, ct) is { } missing) return missing;
         var rows = await db.LiveMonitors.AsNoTracking().Where(m => m.ProjectId == projectId).OrderBy(m => m.WorkerRef).ToListAsync(ct);
         return new LiveQualityView(rows.Select(View).ToList());
+    }
+
+    /// <summary>
+    /// One page of the project's monitored annotators, by worker ref, optionally of one status; 400 for an unknown
+    /// status, a foreign cursor or a limit out of range.
+    /// </summary>
+    public async Task<Outcome<LiveQualityView>> ListAsync(string projectId, string? status, string? cursor, int? limit, CancellationToken ct)
+    {
+        if (status is not null && !LiveStatusNames.All.Contains(status))
+            return Problems.BadRequest($"'status' must be one of {string.Join(", ", LiveStatusNames.All)}.");
+        var read = Cursor.Read(cursor, "cursor");
+        if (read.Problem is { } badCursor) return badCursor;
+        var size = Cursor.PageSize(limit);
+        if (size.Problem is { } badLimit) return badLimit;
+        var (after, take) = (read.Value, size.Value);
+        if (await ProjectScope.MissingProjectAsync(db, projectId, ct) is { } missing) return missing;
+        var query = db.LiveMonitors.AsNoTracking().Where(m => m.ProjectId == projectId);
+        if (status is not null) query = query.Where(m => m.Status == status);
+        if (after is not null) query = query.Where(m => string.Compare(m.WorkerRef, after) > 0);
+        var rows = await query.OrderBy(m => m.WorkerRef).Take(take + 1).ToListAsync(ct);
+        var page = rows.Take(take).Select(View).ToList();
+        return new LiveQualityView(page, rows.Count > take ? Cursor.Encode(page[^1].WorkerRef) : null);
     }
 
     /// <summary>One annotator's live quality and outcome history; 404 when they have no live checks.</summary>
@@ -266,7 +388,9 @@ public sealed class LiveQualityOperations(TeachServeDb db, TimeProvider time, Mo
     }
 
     private static bool Same(LiveCheckInput a, LiveCheckInput b) =>
-        a.WorkerRef == b.WorkerRef && a.ItemId == b.ItemId && a.Label == b.Label && Millisecond(a.AnsweredAt) == Millisecond(b.AnsweredAt);
+        a.WorkerRef == b.WorkerRef && a.ItemId == b.ItemId && a.Label == b.Label && Millisecond(a.AnsweredAt) == Millisecond(b.AnsweredAt)
+        && (a.Item is null) == (b.Item is null)
+        && (a.Item is null || Json.Serialize(a.Item.Definition(a.ItemId)) == Json.Serialize(b.Item!.Definition(b.ItemId)));
 
     /// <summary>UTC, to the millisecond: both stores keep that exactly, so a retry compares equal to what was stored.</summary>
     private static DateTimeOffset Millisecond(DateTimeOffset at)

@@ -18,7 +18,8 @@ public sealed record ProjectView(
 /// <summary>The webhook as shown back: the secret is write-only.</summary>
 public sealed record WebhookView(string Url, bool SecretSet);
 
-public sealed record ItemCounts(int Teach, int Test);
+/// <summary>Items per pool; <c>live</c> items are known answers for live checks, never compiled into a version.</summary>
+public sealed record ItemCounts(int Teach, int Test, int Live = 0);
 
 /// <summary>Where and how release decisions are pushed to the platform.</summary>
 public sealed record ReleaseWebhookSettings
