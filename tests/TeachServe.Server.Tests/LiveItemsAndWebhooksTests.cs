@@ -222,6 +222,41 @@ public sealed class LiveItemsAndWebhooksTests
     }
 
     [Fact]
+    public async Task A_rebuild_sends_one_delivery_from_the_status_receivers_last_heard_to_the_rebuilt_one()
+    {
+        await using var receiver = await HookReceiver.StartAsync();
+        using var app = new TestApp();
+        var keys = await app.ReadyProjectAsync(HookReceiver.ProjectWithHook(receiver.Url));
+        await ReleaseAsync(app, keys, "late");
+        Assert.Equal("org.teachserve.session.released", (await receiver.NextAsync()).Type);
+
+        // Twenty answers, every fourth wrong (LiveQualityTests: in time order the chart never alarms). The five wrong
+        // ones arrive first and, applied alone, alarm: refresher due. The right ones arrive later but were answered
+        // between them, so the state is rebuilt, and in time order it never alarmed.
+        var answers = Enumerable.Range(0, 20).ToList();
+        await Api.JsonAsync(await PostAsync(app, keys, answers.Where(n => n % 4 == 0).Select(n => Check($"l{n}", "late", n, Wrong(n), n))), 200);
+        var afterFirst = (await HistoryAsync(app, keys, "late"))["annotator"]!["status"]!.GetValue<string>();
+        Assert.Equal("refresher-due", afterFirst);
+        await Api.JsonAsync(await PostAsync(app, keys, answers.Where(n => n % 4 != 0).Select(n => Check($"l{n}", "late", n, Truth(n), n))), 200);
+        var final = (await HistoryAsync(app, keys, "late"))["annotator"]!["status"]!.GetValue<string>();
+        Assert.NotEqual(afterFirst, final);
+
+        using var scope = app.Services.CreateScope();
+        var count = await scope.ServiceProvider.GetRequiredService<TeachServeDb>().Outbox.CountAsync(m => m.EventType == "live.status");
+        var deliveries = new List<HookReceiver.Delivery>();
+        for (var i = 0; i < count; i++) deliveries.Add(await receiver.NextAsync());
+        var ordered = deliveries.OrderBy(d => d.Data["rebuilt"]!.GetValue<bool>()).ThenBy(d => d.Data["checks"]!.GetValue<int>()).ToList();
+        Assert.Single(ordered, d => d.Data["rebuilt"]!.GetValue<bool>());
+        var previous = "reliable";
+        foreach (var d in ordered)
+        {
+            Assert.Equal(previous, d.Data["from"]!.GetValue<string>());
+            previous = d.Data["to"]!.GetValue<string>();
+        }
+        Assert.Equal(("refresher-due", final), (ordered[^1].Data["from"]!.GetValue<string>(), ordered[^1].Data["to"]!.GetValue<string>()));
+    }
+
+    [Fact]
     public async Task The_list_is_paged_by_worker_and_filtered_by_status()
     {
         using var app = new TestApp();
