@@ -1,3 +1,4 @@
+using System.ComponentModel;
 using Microsoft.AspNetCore.Http.HttpResults;
 using TeachServe.Server.Auth;
 using TeachServe.Server.Contract;
@@ -27,11 +28,12 @@ public static class LiveQualityApi
         string projectId, LiveChecksRequest body, LiveQualityOperations live, CancellationToken ct) =>
         (await live.PostAsync(projectId, body, ct)).Answer(TypedResults.Ok);
 
-    /// <param name="status">Only annotators of this status: reliable, watch, refresher-due or paused.</param>
-    /// <param name="cursor">The <c>next</c> of the previous page.</param>
-    /// <param name="limit">Annotators per page, 1 to 500 (default 50).</param>
     public static async Task<Results<Ok<LiveQualityView>, ProblemHttpResult>> ListLiveQuality(
-        string projectId, string? status, string? cursor, int? limit, LiveQualityOperations live, CancellationToken ct) =>
+        string projectId,
+        [Description("Only annotators of this status.")] string? status,
+        [Description("The 'next' of the previous page.")] string? cursor,
+        [Description("Annotators per page, 1 to 500 (default 50).")] int? limit,
+        LiveQualityOperations live, CancellationToken ct) =>
         (await live.ListAsync(projectId, status, cursor, limit, ct)).Answer(TypedResults.Ok);
 
     public static async Task<Results<Ok<LiveAnnotatorHistory>, ProblemHttpResult>> GetLiveQuality(

@@ -19,7 +19,9 @@ public sealed record ProjectView(
 public sealed record WebhookView(string Url, bool SecretSet);
 
 /// <summary>Items per pool; <c>live</c> items are known answers for live checks, never compiled into a version.</summary>
-public sealed record ItemCounts(int Teach, int Test, int Live = 0);
+public sealed record ItemCounts(
+    int Teach, int Test,
+    [property: System.ComponentModel.Description("Items in pool 'live': known answers for live checks, never taught, tested or compiled.")] int Live = 0);
 
 /// <summary>Where and how release decisions are pushed to the platform.</summary>
 public sealed record ReleaseWebhookSettings
