@@ -113,6 +113,7 @@ builder.Services.AddScoped<ExposureOperations>();
 builder.Services.AddScoped<MediaOperations>();
 builder.Services.AddSingleton<LiveMonitors>();
 builder.Services.AddScoped<LiveQualityOperations>();
+builder.Services.AddScoped<Refreshers>();
 builder.Services.AddAnnotatePage();
 builder.Services.AddOwnerConsole();
 

@@ -32,6 +32,13 @@ public sealed record SessionOptions
     /// </summary>
     public IReadOnlyList<double>? TestAdministration { get; init; }
 
+    /// <summary>
+    /// The belief to start from, one weight per hypothesis (normalised when the session starts); null starts from the
+    /// prior. A refresher of a released annotator starts from what their live record says they hold now
+    /// (<see cref="LiveQuality.LiveBelief"/>); stored with the session so a replay starts from the same weights.
+    /// </summary>
+    public IReadOnlyList<double>? StartWeights { get; init; }
+
     public static SessionOptions FromProject(ProjectSettings settings, ulong seed) => new()
     {
         Policy = settings.Policy,

@@ -54,7 +54,10 @@ public sealed class SessionRun
         Options = options;
         var gate = options.Gate;
         var q = ModelVersion.DisagreementFactor(options.Alpha ?? model.Learner.Alpha);
-        _belief = new Belief(model, q, options.Lapse ?? model.Learner.Lapse);
+        var lapse = options.Lapse ?? model.Learner.Lapse;
+        _belief = options.StartWeights is { } start
+            ? Learning.Belief.Continue(model, q, lapse, start as double[] ?? [.. start])
+            : new Belief(model, q, lapse);
         _sources = new AnswerSourceBelief(model.LabelCount, _belief.Lapse, new AnswerSourceOptions());
         if (gate.Test.Mode == TestModes.Belief)
         {

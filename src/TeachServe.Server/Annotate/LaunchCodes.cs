@@ -1,6 +1,7 @@
 using System.Buffers.Text;
 using System.Security.Cryptography;
 using System.Text;
+using Microsoft.AspNetCore.Http.HttpResults;
 using Microsoft.EntityFrameworkCore;
 using TeachServe.Server.Infrastructure;
 using TeachServe.Server.Persistence;
@@ -48,19 +49,20 @@ public static class LaunchCodes
     }
 
     /// <summary>Exchanges a code once: the row is deleted by the exchange that wins, so a second use finds nothing.</summary>
-    public static async Task<(string SessionId, string Token)> RedeemAsync(TeachServeDb db, TimeProvider time, string code, CancellationToken ct)
+    /// <returns>The session and its token, or 410 when the code is unknown, used, expired or malformed.</returns>
+    public static async Task<Outcome<LaunchExchanged>> RedeemAsync(TeachServeDb db, TimeProvider time, string code, CancellationToken ct)
     {
-        if (code.Length is < 10 or > 100 || !code.StartsWith(Prefix, StringComparison.Ordinal)) throw Gone();
+        if (code.Length is < 10 or > 100 || !code.StartsWith(Prefix, StringComparison.Ordinal)) return Gone();
         var hash = Hash(code);
         var row = await db.Set<LaunchCode>().AsNoTracking().FirstOrDefaultAsync(c => c.CodeHash == hash, ct);
-        if (row is null) throw Gone();
+        if (row is null) return Gone();
         var deleted = await db.Set<LaunchCode>().Where(c => c.CodeHash == hash).ExecuteDeleteAsync(ct);
-        if (deleted == 0 || row.ExpiresAt < time.GetUtcNow()) throw Gone();
-        return (row.SessionId, Unseal(code, row.SealedToken));
+        if (deleted == 0 || row.ExpiresAt < time.GetUtcNow()) return Gone();
+        return new LaunchExchanged(row.SessionId, Unseal(code, row.SealedToken));
     }
 
-    private static ApiProblemException Gone() =>
-        new(StatusCodes.Status410Gone, "Launch link used or expired",
+    private static ProblemHttpResult Gone() =>
+        Problems.Of(StatusCodes.Status410Gone, "Launch link used or expired",
             "This launch link has already been used, has expired, or is incomplete. Ask the platform for a new link.");
 
     private static byte[] Hash(string code) => SHA256.HashData(Encoding.ASCII.GetBytes(code));

@@ -1,4 +1,3 @@
-using System.Text.Json;
 using System.Text.Json.Nodes;
 using Microsoft.AspNetCore.OpenApi;
 using Microsoft.OpenApi;
@@ -38,14 +37,10 @@ public sealed class WireValues : IOpenApiSchemaTransformer
             [(typeof(LiveQuality.LiveAnnotatorView), "status")] = LiveQuality.LiveStatusNames.All,
             [(typeof(LiveQuality.LiveAnnotatorStatus), "status")] = LiveQuality.LiveStatusNames.All,
             [(typeof(Core.Projects.ItemDefinition), "pool")] = [Core.Projects.Pools.Teach, Core.Projects.Pools.Test, Core.Projects.Pools.Live],
+            [(typeof(StartSessionRequest), "purpose")] = SessionPurposes.All,
+            [(typeof(SessionView), "purpose")] = SessionPurposes.All,
+            [(typeof(AnnotatorPageState), "purpose")] = SessionPurposes.All,
         };
-
-    /// <summary>
-    /// .NET enums that research results carry (simulations, fits, experiment reports). Those are written with
-    /// <see cref="Infrastructure.Json"/>, which spells enum members as kebab-case strings; the document would otherwise show
-    /// the integers of the server's default JSON options, which no response contains.
-    /// </summary>
-    public static readonly IReadOnlyList<Type> KebabCaseEnums = [typeof(LearnerVariant)];
 
     /// <summary>
     /// The types research results are made of. <see cref="Infrastructure.Json"/> writes their undefined numbers (NaN, ±∞: "not
@@ -66,14 +61,13 @@ public sealed class WireValues : IOpenApiSchemaTransformer
 
     public Task TransformAsync(OpenApiSchema schema, OpenApiSchemaTransformerContext context, CancellationToken cancellationToken)
     {
-        IReadOnlyList<string>? values = null;
-        if (KebabCaseEnums.Contains(context.JsonTypeInfo.Type))
-        {
+        // .NET enums are written as kebab-case strings (Infrastructure.Json); the framework lists their names but leaves
+        // the schema without a type.
+        if (context.JsonTypeInfo.Type.IsEnum && schema.Enum is { Count: > 0 } && schema.Type is null)
             schema.Type = JsonSchemaType.String;
-            schema.Format = null;
-            values = Enum.GetNames(context.JsonTypeInfo.Type).Select(JsonNamingPolicy.KebabCaseLower.ConvertName).ToList();
-        }
-        else if (context.JsonPropertyInfo is { } property)
+
+        IReadOnlyList<string>? values = null;
+        if (context.JsonPropertyInfo is { } property)
             values = Properties.GetValueOrDefault((property.DeclaringType, property.Name));
         else if (context.ParameterDescription is { } parameter)
             values = Parameters.GetValueOrDefault(parameter.Name);

@@ -21,6 +21,10 @@ public static class EventTypes
     public const string Answer = "answer";
     public const string SessionReleased = "session.released";
     public const string SessionFailed = "session.failed";
+    /// <summary>A refresher session passed its check: the annotator is reliable again.</summary>
+    public const string RefresherPassed = "refresher.passed";
+    /// <summary>A refresher session failed its check: the annotator is paused.</summary>
+    public const string RefresherFailed = "refresher.failed";
     public const string WorkerErased = "worker.erased";
     /// <summary>A released annotator's live-quality status changed (reliable, watch, refresher-due, paused).</summary>
     public const string LiveStatusChanged = "live.status";

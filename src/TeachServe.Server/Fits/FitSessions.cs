@@ -14,7 +14,8 @@ public static class FitSessions
     public static async Task<Infrastructure.Outcome<List<RecordedSession>>> LoadAsync(TeachServeDb db, string projectId, int version, int maxSessions, CancellationToken ct)
     {
         var ids = await db.Sessions.AsNoTracking()
-            .Where(s => s.ProjectId == projectId && s.ModelVersion == version && !s.IsActive && s.Step > 0)
+            // Refreshers start from a live belief, not the prior the fit's likelihood assumes.
+            .Where(s => s.ProjectId == projectId && s.ModelVersion == version && !s.IsActive && s.Step > 0 && s.Purpose == Sessions.SessionPurposes.Onboarding)
             .OrderBy(s => s.Id).Select(s => s.Id).Take(maxSessions + 1).ToListAsync(ct);
         if (ids.Count > maxSessions)
             return Infrastructure.Problems.Unprocessable($"More than {maxSessions} finished sessions; the inline fit is limited to that many.");

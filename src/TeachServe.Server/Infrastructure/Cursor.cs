@@ -11,10 +11,13 @@ public static class Cursor
 
     public static string Encode(string lastKey) => Base64Url.EncodeToString(Encoding.UTF8.GetBytes(lastKey));
 
-    /// <summary>The last key in <paramref name="cursor"/> (null when none was given), or 400 naming <paramref name="parameter"/>.</summary>
-    public static Outcome<string?> Read(string? cursor, string parameter)
+    /// <summary>
+    /// The last key in <paramref name="cursor"/> (empty when none was given: keys are never empty), or 400 naming
+    /// <paramref name="parameter"/>.
+    /// </summary>
+    public static Outcome<string> Read(string? cursor, string parameter)
     {
-        if (string.IsNullOrEmpty(cursor)) return (string?)null;
+        if (string.IsNullOrEmpty(cursor)) return "";
         if (cursor.Length <= 200 && Base64Url.IsValid(cursor))
         {
             try
@@ -33,8 +36,8 @@ public static class Cursor
     public static Outcome<long> ReadNumber(string? cursor, string parameter)
     {
         var text = Read(cursor, parameter);
-        if (text.Problem is { } problem) return problem;
-        if (text.Value is null) return 0L;
+        if (!text.Succeeded) return text.Problem;
+        if (text.Value.Length == 0) return 0L;
         return long.TryParse(text.Value, out var n) && n >= 0 ? n : NotACursor(parameter);
     }
 

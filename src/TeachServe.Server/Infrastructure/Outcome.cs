@@ -7,7 +7,7 @@ namespace TeachServe.Server.Infrastructure;
 /// What an operation answers: its value, or the problem a client can act on (404, 409, 422, ...), returned rather than
 /// thrown. Endpoints turn it into their typed result with <see cref="Answer{TOk}"/>; other callers read
 /// <see cref="Value"/> or <see cref="Problem"/> (the console shows its detail and its <c>errors</c> beside the form
-/// that caused it).
+/// that caused it). <typeparamref name="T"/> is never a nullable type: <see cref="Succeeded"/> promises a value.
 /// </summary>
 public readonly struct Outcome<T>
 {

@@ -5,8 +5,9 @@ using Microsoft.EntityFrameworkCore;
 namespace TeachServe.Server.Infrastructure;
 
 /// <summary>
-/// The one place where exceptions become responses (built by <see cref="Problems"/>): our own <see cref="ApiProblemException"/>, request-binding
-/// failures and concurrency conflicts map to 4xx problem details; an unreachable database to 503 with
+/// The one place where exceptions become responses (built by <see cref="Problems"/>). Operations return the problems a
+/// client can act on instead of throwing them; what still arrives here is request-binding failures and concurrency
+/// conflicts, which map to 4xx problem details; an unreachable database to 503 with
 /// Retry-After; anything else is logged and answered with a generic 500 that carries a trace id but never a
 /// stack trace.
 /// </summary>
@@ -27,7 +28,6 @@ public sealed partial class ProblemDetailsExceptionHandler(
 
         var problem = exception switch
         {
-            ApiProblemException e => Problems.Details(e.Status, e.Title, e.Message, e.Extensions),
             BadHttpRequestException e => Problems.Details(e.StatusCode, TitleFor(e.StatusCode), ProblemText.Describe(e)),
             JsonException e => Problems.Details(StatusCodes.Status400BadRequest, Problems.Titles.MalformedJson, ProblemText.Describe(e)),
             DbUpdateConcurrencyException => Problems.Details(StatusCodes.Status409Conflict, Problems.Titles.Conflict,

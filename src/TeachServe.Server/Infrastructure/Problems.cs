@@ -54,7 +54,7 @@ public static class Problems
         return problem;
     }
 
-    /// <summary>The title the API gives a bare status (request-reading failures and the remaining thrown problems).</summary>
+    /// <summary>The title the API gives a bare status (request-reading failures the framework throws).</summary>
     public static string TitleFor(int status) => status switch
     {
         StatusCodes.Status403Forbidden => Titles.Forbidden,

@@ -28,18 +28,18 @@ public static class ItemsApi
     public static async Task<Results<Ok<ItemUploadResult>, ProblemHttpResult>> UploadItems(
         string projectId, HttpRequest request, ItemOperations items, CancellationToken ct)
     {
-        var format = ItemUploadFormats.FromContentType(request.ContentType)
-            ?? throw new ApiProblemException(StatusCodes.Status415UnsupportedMediaType, "Unsupported media type",
+        if (ItemUploadFormats.FromContentType(request.ContentType) is not { } format)
+            return Problems.Of(StatusCodes.Status415UnsupportedMediaType, Problems.Titles.UnsupportedMediaType,
                 "Send items as application/x-ndjson (JSON Lines), application/json (an array) or text/csv.");
         var body = await ReadBodyAsync(request, items.Limits.MaxUploadBytes, ct);
-        var uploaded = await items.UploadAsync(projectId, format, body, ct);
-        return uploaded.Succeeded ? TypedResults.Ok(uploaded.Value) : uploaded.Problem;
+        if (!body.Succeeded) return body.Problem;
+        return (await items.UploadAsync(projectId, format, body.Value, ct)).Answer(TypedResults.Ok);
     }
 
     /// <summary>Reads at most <paramref name="limit"/> bytes of UTF-8; more is 413, invalid UTF-8 is 400.</summary>
-    private static async Task<string> ReadBodyAsync(HttpRequest request, long limit, CancellationToken ct)
+    private static async Task<Outcome<string>> ReadBodyAsync(HttpRequest request, long limit, CancellationToken ct)
     {
-        if (request.ContentLength > limit) throw TooLarge(limit);
+        if (request.ContentLength > limit) return TooLarge(limit);
         if (request.HttpContext.Features.Get<IHttpMaxRequestBodySizeFeature>() is { IsReadOnly: false } size)
             size.MaxRequestBodySize = limit + 1;
 
@@ -48,7 +48,7 @@ public static class ItemsApi
         int read;
         while ((read = await request.Body.ReadAsync(chunk, ct)) > 0)
         {
-            if (buffer.Length + read > limit) throw TooLarge(limit);
+            if (buffer.Length + read > limit) return TooLarge(limit);
             buffer.Write(chunk, 0, read);
         }
         try
@@ -57,11 +57,12 @@ public static class ItemsApi
         }
         catch (DecoderFallbackException)
         {
-            throw ApiProblemException.BadRequest("The body is not valid UTF-8.");
+            return Problems.BadRequest("The body is not valid UTF-8.");
         }
     }
 
-    private static ApiProblemException TooLarge(long limit) =>
-        ApiProblemException.TooLarge($"Uploads are limited to {limit} bytes; split the items into several uploads.")
-            .With("limit", limit);
+    private static ProblemHttpResult TooLarge(long limit) =>
+        Problems.Of(StatusCodes.Status413PayloadTooLarge, Problems.Titles.TooLarge,
+            $"Uploads are limited to {limit} bytes; split the items into several uploads.",
+            new Dictionary<string, object?> { ["limit"] = limit });
 }

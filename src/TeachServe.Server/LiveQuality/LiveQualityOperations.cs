@@ -19,7 +19,8 @@ namespace TeachServe.Server.LiveQuality;
 /// monitor of each annotator, and the owner's views. Problems are returned, not thrown.
 /// </summary>
 public sealed class LiveQualityOperations(
-    TeachServeDb db, TimeProvider time, ModelVersionCache versions, LiveMonitors monitors, OutboxSignal outbox, IOptions<TeachServeOptions> options)
+    TeachServeDb db, TimeProvider time, ModelVersionCache versions, LiveMonitors monitors, Refreshers refreshers, OutboxSignal outbox,
+    IOptions<TeachServeOptions> options)
 {
     private const int Attempts = 3;
 
@@ -215,6 +216,8 @@ public sealed class LiveQualityOperations(
         {
             var release = group.First().First.Release;
             var monitor = await MonitorAsync(projectId, release, now, ct);
+            // A refresher that ended before these outcomes arrived is applied first (it usually was, when it ended).
+            await Refreshers.ApplyPendingAsync(db, monitor.Record, now, ct);
             var statusBefore = monitor.Record.Status;
             var log = new ApplyLog();
             var record = await ApplyAsync(monitor, group.Select(p => p.Second).ToList(), now, ct, log);
@@ -275,17 +278,22 @@ public sealed class LiveQualityOperations(
         var inOrder = record.Checks == 0
             || (ordered[0].AnsweredAt, ordered[0].Id).CompareTo((record.LastAnsweredAt, record.LastCheckId)) > 0;
         var state = LiveMonitorState.FromBytes(record.State);
+        var refreshersBetween = new Queue<EndedRefresher>();
         if (!inOrder)
         {
-            // Every outcome since the monitor started, the new ones included (they are saved in this transaction).
+            // Every outcome since the monitor started, the new ones included (they are saved in this transaction), and
+            // the refreshers it has taken in since, each at the time it ended.
             ordered = await db.LiveChecks.Where(c => c.ProjectId == record.ProjectId && c.WorkerRef == record.WorkerRef && c.ReceivedAt >= record.StartedAt)
                 .OrderBy(c => c.AnsweredAt).ThenBy(c => c.Id).ToListAsync(ct);
+            refreshersBetween = new Queue<EndedRefresher>(await Refreshers.AppliedSinceAsync(db, record, ct));
             state = monitor.Start();
             (record.LastAlarmAt, record.LastAlarm) = (null, null);
         }
 
         foreach (var check in ordered)
         {
+            while (refreshersBetween.TryPeek(out var refresher) && refresher.EndedAt <= check.AnsweredAt)
+                state = LiveMonitor.AfterRefresher(state, refreshersBetween.Dequeue().Outcome);
             var before = state.Status;
             // The count monitors read only whether the answer was wrong (candidate charts, which need the model's item
             // and label indices, are off: see LiveMonitors).
@@ -298,6 +306,7 @@ public sealed class LiveQualityOperations(
                     check.AnsweredAt, state.Checks, state.Errors, step.Alarms != LiveAlarms.None), !inOrder, now, log);
         }
 
+        while (refreshersBetween.TryDequeue(out var later)) state = LiveMonitor.AfterRefresher(state, later.Outcome);
         var last = ordered[^1];
         if (log is not null) (log.Rebuilt, log.Last) = (!inOrder, last);
         record.State = state.ToBytes();
@@ -337,6 +346,7 @@ public sealed class LiveQualityOperations(
     public async Task<Outcome<LiveQualityView>> ListAsync(string projectId, CancellationToken ct)
     {
         if (await ProjectScope.MissingProjectAsync(db, projectId, ct) is { } missing) return missing;
+        await refreshers.ApplyEndedAsync(projectId, ct);
         var rows = await db.LiveMonitors.AsNoTracking().Where(m => m.ProjectId == projectId).OrderBy(m => m.WorkerRef).ToListAsync(ct);
         return new LiveQualityView(rows.Select(View).ToList());
     }
@@ -367,6 +377,7 @@ public sealed class LiveQualityOperations(
     public async Task<Outcome<LiveAnnotatorHistory>> HistoryAsync(string projectId, string workerRef, CancellationToken ct)
     {
         if (await ProjectScope.MissingProjectAsync(db, projectId, ct) is { } missing) return missing;
+        await refreshers.ApplyEndedAsync(projectId, workerRef, ct);
         var record = await db.LiveMonitors.AsNoTracking().FirstOrDefaultAsync(m => m.ProjectId == projectId && m.WorkerRef == workerRef, ct);
         if (record is null) return Problems.NotFound("No live checks of this worker in the project.");
         var outcomes = await db.LiveChecks.AsNoTracking()

@@ -32,6 +32,7 @@ public abstract class TeachServeDb(DbContextOptions options) : DbContext(options
     public DbSet<Exposure.TestExposure> TestExposures => Set<Exposure.TestExposure>();
     public DbSet<LiveQuality.LiveCheckRecord> LiveChecks => Set<LiveQuality.LiveCheckRecord>();
     public DbSet<LiveQuality.LiveMonitorRecord> LiveMonitors => Set<LiveQuality.LiveMonitorRecord>();
+    public DbSet<LiveQuality.RefresherStart> RefresherStarts => Set<LiveQuality.RefresherStart>();
 
     protected override void OnModelCreating(ModelBuilder modelBuilder) =>
         modelBuilder.ApplyConfigurationsFromAssembly(typeof(TeachServeDb).Assembly);

@@ -31,6 +31,16 @@ public sealed class Session
     public int? ArmIndex { get; set; }
     /// <summary>The arm's definition as it was at the start, so a replay applies exactly the same options.</summary>
     public string? ArmJson { get; set; }
+    /// <summary>What the session is for (<see cref="SessionPurposes"/>): onboarding, or a refresher of a released annotator.</summary>
+    public string Purpose { get; set; } = SessionPurposes.Onboarding;
+}
+
+public static class SessionPurposes
+{
+    public const string Onboarding = "onboarding";
+    /// <summary>A short session for a released annotator, started from their live belief (<see cref="LiveQuality.RefresherStart"/>).</summary>
+    public const string Refresher = "refresher";
+    public static readonly IReadOnlyList<string> All = [Onboarding, Refresher];
 }
 
 public static class Phases

@@ -15,6 +15,7 @@ public sealed class SessionConfiguration : IEntityTypeConfiguration<Session>
         builder.Property(s => s.WorkerRef).HasMaxLength(SessionLimits.WorkerRefLength);
         builder.Property(s => s.Phase).HasMaxLength(16);
         builder.Property(s => s.Policy).HasMaxLength(32);
+        builder.Property(s => s.Purpose).HasMaxLength(16).HasDefaultValue(SessionPurposes.Onboarding);
         builder.Property(s => s.Step).IsConcurrencyToken();
         builder.Property(s => s.TokenHash).HasMaxLength(32);
         builder.Property(s => s.RefKey).HasMaxLength(32);

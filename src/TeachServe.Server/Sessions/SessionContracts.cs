@@ -13,6 +13,14 @@ public sealed record StartSessionRequest
     /// annotator's current token keeps working.
     /// </summary>
     public bool Resume { get; init; }
+
+    /// <summary>
+    /// <c>onboarding</c> (the default) or <c>refresher</c>: a short session for a released annotator whose live checks
+    /// show drift, on the model version they were released on, starting from what their live record says they hold
+    /// now. It teaches at most 10 items, then runs one attempt of the project's test; passing makes them reliable
+    /// again, failing pauses them. Refused (409) for a worker never released in the project.
+    /// </summary>
+    public string? Purpose { get; init; }
 }
 
 /// <summary>
@@ -92,6 +100,8 @@ public sealed record SessionView
     public required DateTimeOffset CreatedAt { get; init; }
     public DateTimeOffset? EndedAt { get; init; }
     public EvidenceView? Evidence { get; init; }
+    /// <summary><c>onboarding</c> or <c>refresher</c>.</summary>
+    public string Purpose { get; init; } = SessionPurposes.Onboarding;
 }
 
 public sealed record SessionPage(IReadOnlyList<SessionView> Sessions, string? Next);

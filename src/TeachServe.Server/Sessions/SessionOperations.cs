@@ -19,8 +19,10 @@ namespace TeachServe.Server.Sessions;
 /// <param name="ProjectKnown">True when the caller already knows the project exists (a project's key was checked against it).</param>
 /// <param name="LaunchLifetime">How long the launch link's one-time code works.</param>
 /// <param name="Resume">For an active session: retire its token and issue a new one; otherwise it comes back without a token.</param>
+/// <param name="Purpose">Onboarding, or a refresher of a released annotator (<see cref="SessionPurposes"/>).</param>
 public sealed record StartSessionInput(
-    string ProjectId, string WorkerRef, string BaseUrl, bool ProjectKnown, TimeSpan LaunchLifetime, bool Resume = false);
+    string ProjectId, string WorkerRef, string BaseUrl, bool ProjectKnown, TimeSpan LaunchLifetime, bool Resume = false,
+    string Purpose = SessionPurposes.Onboarding);
 
 /// <summary>A started session, or the worker's active one (<see cref="Created"/> false).</summary>
 public sealed record StartSessionResult(bool Created, SessionStarted Session);
@@ -75,7 +77,7 @@ public sealed record SessionRefusal(int Status, string Detail, int? CurrentStep 
 /// </summary>
 public sealed partial class SessionOperations(
     TeachServeDb db, TimeProvider time, ModelVersionCache versions, SessionStateCache states, SessionLoader loader,
-    SessionReads reads, GroupCommitWriter writer, OutboxSignal outbox, ILogger<SessionOperations> logger)
+    SessionReads reads, GroupCommitWriter writer, OutboxSignal outbox, LiveQuality.Refreshers refreshers, ILogger<SessionOperations> logger)
 {
     /// <summary>Starts a session for the worker on the project's newest ready model version, or returns its active one.</summary>
     public async Task<SessionOutcome<StartSessionResult>> StartAsync(StartSessionInput input, CancellationToken ct)
@@ -87,21 +89,38 @@ public sealed partial class SessionOperations(
             return SessionRefusal.NotFound("No such project.");
         if (await ResumeAsync(input, ct) is { } resumed) return new StartSessionResult(false, resumed);
 
-        if (await reads.NewestReadyVersionAsync(db, projectId, ct) is not { } number)
-            return SessionRefusal.Conflict("The project has no ready model version yet; the owner compiles one with POST /versions.");
-        var version = await versions.GetAsync(projectId, number, ct);
-
+        if (!SessionPurposes.All.Contains(input.Purpose))
+            return SessionRefusal.Invalid($"'purpose' must be one of {string.Join(", ", SessionPurposes.All)}.");
+        var refresher = input.Purpose == SessionPurposes.Refresher;
         var now = time.GetUtcNow();
         var id = Ids.NewSessionId(time);
+        CompiledVersion version;
+        LiveQuality.RefresherPlan? plan = null;
+        if (refresher)
+        {
+            // On the version the annotator was released on: the live belief is over its hypotheses.
+            var planned = await refreshers.PlanAsync(projectId, workerRef, id, ct);
+            if (!planned.Succeeded) return SessionRefusal.Conflict(planned.Problem.ProblemDetails.Detail!);
+            plan = planned.Value;
+            version = plan.Version;
+        }
+        else
+        {
+            if (await reads.NewestReadyVersionAsync(db, projectId, ct) is not { } number)
+                return SessionRefusal.Conflict("The project has no ready model version yet; the owner compiles one with POST /versions.");
+            version = await versions.GetAsync(projectId, number, ct);
+        }
+
         var token = ApiKeys.NewSessionToken(id);
         var seed = BitConverter.ToInt64(System.Security.Cryptography.RandomNumberGenerator.GetBytes(8));
         var session = new Session
         {
             Id = id, ProjectId = projectId, WorkerRef = workerRef, IsActive = true, Phase = Phases.Teaching,
-            Step = 0, ModelVersion = version.Number, Policy = version.Settings.Policy, Seed = seed,
-            TokenHash = ApiKeys.Hash(token), RefKey = ItemRefs.NewKey(), CreatedAt = now, LastSeenAt = now,
+            Step = 0, ModelVersion = version.Number, Policy = refresher ? Core.Projects.PolicyNames.Adaptive : version.Settings.Policy, Seed = seed,
+            TokenHash = ApiKeys.Hash(token), RefKey = ItemRefs.NewKey(), CreatedAt = now, LastSeenAt = now, Purpose = input.Purpose,
         };
-        if (await Experiments.ExperimentArms.AssignAsync(reads, db, projectId, workerRef, ct) is { } arm)
+        // A refresher is no new onboarding: it is not assigned to a running experiment's arms.
+        if (!refresher && await Experiments.ExperimentArms.AssignAsync(reads, db, projectId, workerRef, ct) is { } arm)
         {
             session.ExperimentId = arm.ExperimentId;
             session.ArmIndex = arm.Index;
@@ -110,7 +129,7 @@ public sealed partial class SessionOperations(
         }
         // Exposure control: K fixed now from the counts so far, and kept in the start event for replays.
         var administration = await Exposure.ExposureCounts.AdministrationAsync(db, version, ct);
-        var run = SessionRun.Start(version.Model, SessionLoader.Options(version, session, administration));
+        var run = SessionRun.Start(version.Model, SessionLoader.Options(version, session, administration, plan?.Start, plan?.Weights));
         session.Phase = SessionViews.PhaseName(run.Phase);
         session.PredictedError = run.PredictedError;
         var (launchUrl, launchCode) = LaunchCodes.New(time, input.BaseUrl, id, token, input.LaunchLifetime);
@@ -123,12 +142,13 @@ public sealed partial class SessionOperations(
                 experimentId = session.ExperimentId, arm = session.ArmIndex,
                 armName = session.ArmIndex is { } a ? Json.Deserialize<Core.Experiments.ArmDefinition>(session.ArmJson!).Name : null,
                 testAdministration = Exposure.ExposureCounts.ForEvent(version, administration),
+                purpose = session.Purpose, refresherFrom = plan?.Start.FromSessionId, refresherLiveChecks = plan?.Start.LiveChecks,
             }),
         };
         try
         {
             // Through the single writer, like answers: one commit for many starts, and no wait for the write lock.
-            await writer.CommitAsync(new PendingRows { Rows = [session, launchCode, started] }, ct);
+            await writer.CommitAsync(new PendingRows { Rows = plan is null ? [session, launchCode, started] : [session, plan.Start, launchCode, started] }, ct);
         }
         catch (DbUpdateException)
         {
@@ -246,6 +266,9 @@ public sealed partial class SessionOperations(
         {
             if (webhook) outbox.Notify();
             LogEnded(logger, sessionId, phase, run.Step);
+            // Its own transaction after the answer's: a crash in between leaves the refresher for the next batch of live
+            // checks or view of the monitor to apply (Refreshers.ApplyEndedAsync is idempotent).
+            if (session.Purpose == SessionPurposes.Refresher) await refreshers.ApplyEndedAsync(session.ProjectId, session.WorkerRef, CancellationToken.None);
         }
         return result;
     }
@@ -272,7 +295,7 @@ public sealed partial class SessionOperations(
         if (!await db.Projects.AnyAsync(p => p.Id == projectId, ct)) return SessionRefusal.NotFound("No such project.");
         var query = db.Sessions.AsNoTracking().Where(s => s.ProjectId == projectId);
         if (phase is not null) query = query.Where(s => s.Phase == phase);
-        if (after is not null) query = query.Where(s => string.Compare(s.Id, after) > 0);
+        if (after.Length > 0) query = query.Where(s => string.Compare(s.Id, after) > 0);
         var rows = await query.OrderBy(s => s.Id).Take(take + 1).ToListAsync(ct);
         var page = rows.Take(take).Select(s => SessionViews.Of(s, forAnnotator: false)).ToList();
         return new SessionPage(page, rows.Count > take ? Cursor.Encode(page[^1].SessionId) : null);
@@ -303,13 +326,21 @@ public sealed partial class SessionOperations(
         List<object> rows, Session session, CompiledVersion version, string phase, EvidenceView evidence, string evidenceJson,
         int step, DateTimeOffset now, CancellationToken ct)
     {
-        var type = phase == Phases.Released ? EventTypes.SessionReleased : EventTypes.SessionFailed;
+        var refresher = session.Purpose == SessionPurposes.Refresher;
+        var type = (phase == Phases.Released, refresher) switch
+        {
+            (true, false) => EventTypes.SessionReleased,
+            (false, false) => EventTypes.SessionFailed,
+            (true, true) => EventTypes.RefresherPassed,
+            (false, true) => EventTypes.RefresherFailed,
+        };
         rows.Add(new SessionEvent
         {
             ProjectId = session.ProjectId, SessionId = session.Id, WorkerRef = session.WorkerRef,
             Type = type, Step = step, At = now, DataJson = evidenceJson,
         });
-        if (phase == Phases.Released)
+        // A passed refresher returns a released annotator to reliable (their monitor, after the commit); it is no new release.
+        if (phase == Phases.Released && !refresher)
         {
             rows.Add(new Release
             {

@@ -14,9 +14,17 @@ namespace TeachServe.Server.Sessions;
 public sealed class SessionLoader(ModelVersionCache versions, SessionStateCache states)
 {
     /// <param name="testAdministration">The exposure-control K the session started with (see <see cref="Exposure.ExposureCounts"/>).</param>
-    public static SessionOptions Options(CompiledVersion version, Session session, IReadOnlyList<double>? testAdministration)
+    /// <param name="refresher">For a refresher, where it starts (stored with it); <paramref name="weights"/> unpacked, if at hand.</param>
+    public static SessionOptions Options(
+        CompiledVersion version, Session session, IReadOnlyList<double>? testAdministration,
+        LiveQuality.RefresherStart? refresher = null, double[]? weights = null)
     {
         var options = SessionOptions.FromProject(version.Settings, unchecked((ulong)session.Seed)) with { TestAdministration = testAdministration };
+        if (refresher is not null)
+        {
+            var settings = new Core.LiveQuality.RefresherSettings { TargetRuleError = version.Settings.Gate.TargetError, MaxItems = refresher.MaxItems };
+            return Core.LiveQuality.RefresherSessions.Options(options, settings, weights ?? LiveQuality.RefresherStart.Unpack(refresher.Weights));
+        }
         // An experiment arm's overrides were fixed at the start; applying the stored copy keeps replay exact.
         return session.ArmJson is null ? options : Json.Deserialize<Core.Experiments.ArmDefinition>(session.ArmJson).Apply(options);
     }
@@ -41,7 +49,10 @@ public sealed class SessionLoader(ModelVersionCache versions, SessionStateCache 
             .OrderBy(e => e.Step).Select(e => e.DataJson).ToListAsync(ct);
         var labels = data.Select(d => JsonDocument.Parse(d).RootElement.GetProperty("labelIndex").GetInt32());
         var administration = await Exposure.ExposureCounts.OfSessionAsync(db, version, session.Id, ct);
-        var run = SessionRun.Replay(version.Model, Options(version, session, administration), labels);
+        var refresher = session.Purpose == SessionPurposes.Refresher
+            ? await db.RefresherStarts.AsNoTracking().FirstAsync(r => r.SessionId == session.Id, ct)
+            : null;
+        var run = SessionRun.Replay(version.Model, Options(version, session, administration, refresher), labels);
         if (run.Step != session.Step)
             throw new InvalidOperationException($"Session {session.Id} has {run.Step} answer events but is at step {session.Step}.");
         return run;

@@ -23,6 +23,7 @@ public static class SessionViews
         CreatedAt = s.CreatedAt,
         EndedAt = s.EndedAt,
         Evidence = forAnnotator || s.EvidenceJson is null ? null : Json.Deserialize<EvidenceView>(s.EvidenceJson),
+        Purpose = s.Purpose,
     };
 
     public static string PhaseName(SessionPhase phase) => phase switch

@@ -14,9 +14,9 @@ public static class SessionsApi
     {
         var project = api.MapGroup("/projects/{projectId}/sessions").WithTags("Sessions");
         project.MapPost("/", StartSession).RequireKey(KeyRole.Embed, KeyRole.Owner).WithName("startSession")
-            .Problem(StatusCodes.Status409Conflict, "The project has no ready model version yet.")
-            .Problem(StatusCodes.Status422UnprocessableEntity, "'workerRef' is empty, too long or not printable.")
-            .WithSummary("Start the onboarding session of a worker on the newest ready model version; for a worker with an active session, return it (with a new token only when the body says resume: true).");
+            .Problem(StatusCodes.Status409Conflict, "The project has no ready model version yet, or a refresher was asked for a worker never released in the project.")
+            .Problem(StatusCodes.Status422UnprocessableEntity, "'workerRef' is empty, too long or not printable, or 'purpose' is not onboarding or refresher.")
+            .WithSummary("Start the onboarding session of a worker on the newest ready model version, or with purpose: refresher a refresher of a released annotator; for a worker with an active session, return it (with a new token only when the body says resume: true).");
         project.MapGet("/", ListSessions).RequireKey(KeyRole.Owner).WithName("listSessions")
             .Problem(StatusCodes.Status400BadRequest, "'phase', 'cursor' or 'limit' is not valid.")
             .WithSummary("Sessions of the project, oldest first, optionally of one phase; cursor-paged.");
@@ -46,7 +46,8 @@ public static class SessionsApi
         // With a project's key the project exists: the key check has just read its row and the key filter matched it
         // to the route. The admin key is of no project, so for it the project is looked up.
         var input = new StartSessionInput(projectId, body.WorkerRef, BaseUrl(http.Request, options.Value),
-            ProjectKnown: http.User.Role() != KeyRole.Admin, page.Value.LaunchCodeLifetime, body.Resume);
+            ProjectKnown: http.User.Role() != KeyRole.Admin, page.Value.LaunchCodeLifetime, body.Resume,
+            body.Purpose ?? SessionPurposes.Onboarding);
         var outcome = await sessions.StartAsync(input, ct);
         if (outcome.Value is not { } start) return outcome.Refusal!.Problem();
         return start.Created ? TypedResults.Created($"/api/v1/sessions/{start.Session.SessionId}", start.Session) : TypedResults.Ok(start.Session);

@@ -17,7 +17,7 @@ public static class SessionsCsv
     public static readonly string[] Columns =
     [
         "sessionId", "workerRef", "phase", "modelVersion", "policy", "itemsTaught", "testAnswered", "testErrors",
-        "attempts", "predictedError", "startedAt", "endedAt", "minutes",
+        "attempts", "predictedError", "startedAt", "endedAt", "minutes", "purpose",
     ];
 
     public static async Task<string> WriteAsync(TeachServeDb db, string projectId, CancellationToken ct)
@@ -33,7 +33,8 @@ public static class SessionsCsv
                 evidence is null ? "" : Num(evidence.TestErrors), evidence?.Attempts is { } a ? Num(a.Count) : "",
                 s.PredictedError.ToString("0.####", CultureInfo.InvariantCulture),
                 s.CreatedAt.ToString("O", CultureInfo.InvariantCulture), s.EndedAt?.ToString("O", CultureInfo.InvariantCulture) ?? "",
-                s.EndedAt is { } end ? (end - s.CreatedAt).TotalMinutes.ToString("0.#", CultureInfo.InvariantCulture) : "");
+                s.EndedAt is { } end ? (end - s.CreatedAt).TotalMinutes.ToString("0.#", CultureInfo.InvariantCulture) : "",
+                s.Purpose);
         }
         return csv.ToString();
     }

@@ -48,7 +48,8 @@ public sealed partial class ModelVersionCache(
         var db = scope.ServiceProvider.GetRequiredService<TeachServeDb>();
         var record = await db.ModelVersions.AsNoTracking()
             .FirstOrDefaultAsync(v => v.ProjectId == projectId && v.Number == number && v.Status == VersionStatuses.Ready)
-            ?? throw ApiProblemException.NotFound($"Model version {number} is not ready.");
+            // Callers pass versions they found ready (ready is final), so a miss is a broken invariant, not a request error.
+            ?? throw new InvalidOperationException($"Model version {number} of {projectId} is not ready or does not exist.");
         var compiled = await Task.Run(() => VersionCompiler.Load(record, CancellationToken.None));
         if (compiled.Model.HypothesisCount != record.HypothesisCount || compiled.Model.TargetIndex != record.TargetIndex)
         {

@@ -43,7 +43,7 @@ public static partial class ErasureScrub
         else if (db.Database.IsNpgsql())
         {
             // VACUUM cannot run in a transaction; EF runs a raw statement outside one unless one is open.
-            await db.Database.ExecuteSqlRawAsync("VACUUM \"Sessions\", \"Events\", \"Releases\", \"Outbox\", \"LaunchCodes\", \"LiveChecks\", \"LiveMonitors\";", ct);
+            await db.Database.ExecuteSqlRawAsync("VACUUM \"Sessions\", \"Events\", \"Releases\", \"Outbox\", \"LaunchCodes\", \"LiveChecks\", \"LiveMonitors\", \"RefresherStarts\";", ct);
         }
     }
 

@@ -12,7 +12,7 @@ public sealed class WorkerOperations(TeachServeDb db, TimeProvider time, Session
 {
     public const string EraseAction = "worker.erased";
 
-    /// <summary>Erases the worker's sessions, events, releases, webhooks, live checks and live monitor in one transaction, and records an audit entry.</summary>
+    /// <summary>Erases the worker's sessions, events, releases, webhooks, live checks, live monitor and refresher starts in one transaction, and records an audit entry.</summary>
     public async Task<Outcome<WorkerErased>> EraseAsync(string projectId, string workerRef, CancellationToken ct)
     {
         if (workerRef.Length > SessionLimits.WorkerRefLength)
@@ -27,6 +27,8 @@ public sealed class WorkerOperations(TeachServeDb db, TimeProvider time, Session
         var events = await db.Events.Where(e => e.ProjectId == projectId && e.WorkerRef == workerRef).ExecuteDeleteAsync(ct);
         var releases = await db.Releases.Where(r => r.ProjectId == projectId && r.WorkerRef == workerRef).ExecuteDeleteAsync(ct);
         var webhooks = await db.Outbox.Where(m => m.ProjectId == projectId && m.WorkerRef == workerRef).ExecuteDeleteAsync(ct);
+        // Refresher starts hold the worker's belief; the foreign key would remove them with the sessions, but erasure says so itself.
+        await db.RefresherStarts.Where(r => r.ProjectId == projectId && r.WorkerRef == workerRef).ExecuteDeleteAsync(ct);
         var sessions = await db.Sessions.Where(s => s.ProjectId == projectId && s.WorkerRef == workerRef).ExecuteDeleteAsync(ct);
         var liveChecks = await db.LiveChecks.Where(c => c.ProjectId == projectId && c.WorkerRef == workerRef).ExecuteDeleteAsync(ct);
         await db.LiveMonitors.Where(m => m.ProjectId == projectId && m.WorkerRef == workerRef).ExecuteDeleteAsync(ct);

@@ -373,6 +373,50 @@ namespace TeachServe.Server.Persistence.Migrations.Postgres
                     b.ToTable("LiveMonitors", (string)null);
                 });
 
+            modelBuilder.Entity("TeachServe.Server.LiveQuality.RefresherStart", b =>
+                {
+                    b.Property<string>("SessionId")
+                        .HasMaxLength(40)
+                        .HasColumnType("character varying(40)");
+
+                    b.Property<DateTimeOffset?>("AppliedAt")
+                        .HasColumnType("timestamp with time zone");
+
+                    b.Property<DateTimeOffset>("CreatedAt")
+                        .HasColumnType("timestamp with time zone");
+
+                    b.Property<string>("FromSessionId")
+                        .IsRequired()
+                        .HasMaxLength(40)
+                        .HasColumnType("character varying(40)");
+
+                    b.Property<int>("LiveChecks")
+                        .HasColumnType("integer");
+
+                    b.Property<int>("MaxItems")
+                        .HasColumnType("integer");
+
+                    b.Property<string>("ProjectId")
+                        .IsRequired()
+                        .HasMaxLength(40)
+                        .HasColumnType("character varying(40)");
+
+                    b.Property<byte[]>("Weights")
+                        .IsRequired()
+                        .HasColumnType("bytea");
+
+                    b.Property<string>("WorkerRef")
+                        .IsRequired()
+                        .HasMaxLength(200)
+                        .HasColumnType("character varying(200)");
+
+                    b.HasKey("SessionId");
+
+                    b.HasIndex("ProjectId", "WorkerRef", "AppliedAt");
+
+                    b.ToTable("RefresherStarts", (string)null);
+                });
+
             modelBuilder.Entity("TeachServe.Server.Persistence.ServerSetting", b =>
                 {
                     b.Property<string>("Key")
@@ -527,6 +571,13 @@ namespace TeachServe.Server.Persistence.Migrations.Postgres
                         .IsRequired()
                         .HasMaxLength(40)
                         .HasColumnType("character varying(40)");
+
+                    b.Property<string>("Purpose")
+                        .IsRequired()
+                        .ValueGeneratedOnAdd()
+                        .HasMaxLength(16)
+                        .HasColumnType("character varying(16)")
+                        .HasDefaultValue("onboarding");
 
                     b.Property<byte[]>("RefKey")
                         .IsRequired()
@@ -880,6 +931,15 @@ namespace TeachServe.Server.Persistence.Migrations.Postgres
                     b.HasOne("TeachServe.Server.Projects.Project", null)
                         .WithMany()
                         .HasForeignKey("ProjectId")
+                        .OnDelete(DeleteBehavior.Cascade)
+                        .IsRequired();
+                });
+
+            modelBuilder.Entity("TeachServe.Server.LiveQuality.RefresherStart", b =>
+                {
+                    b.HasOne("TeachServe.Server.Sessions.Session", null)
+                        .WithOne()
+                        .HasForeignKey("TeachServe.Server.LiveQuality.RefresherStart", "SessionId")
                         .OnDelete(DeleteBehavior.Cascade)
                         .IsRequired();
                 });

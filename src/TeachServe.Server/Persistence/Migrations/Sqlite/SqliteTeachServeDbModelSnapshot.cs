@@ -361,6 +361,50 @@ namespace TeachServe.Server.Persistence.Migrations.Sqlite
                     b.ToTable("LiveMonitors", (string)null);
                 });
 
+            modelBuilder.Entity("TeachServe.Server.LiveQuality.RefresherStart", b =>
+                {
+                    b.Property<string>("SessionId")
+                        .HasMaxLength(40)
+                        .HasColumnType("TEXT");
+
+                    b.Property<long?>("AppliedAt")
+                        .HasColumnType("INTEGER");
+
+                    b.Property<long>("CreatedAt")
+                        .HasColumnType("INTEGER");
+
+                    b.Property<string>("FromSessionId")
+                        .IsRequired()
+                        .HasMaxLength(40)
+                        .HasColumnType("TEXT");
+
+                    b.Property<int>("LiveChecks")
+                        .HasColumnType("INTEGER");
+
+                    b.Property<int>("MaxItems")
+                        .HasColumnType("INTEGER");
+
+                    b.Property<string>("ProjectId")
+                        .IsRequired()
+                        .HasMaxLength(40)
+                        .HasColumnType("TEXT");
+
+                    b.Property<byte[]>("Weights")
+                        .IsRequired()
+                        .HasColumnType("BLOB");
+
+                    b.Property<string>("WorkerRef")
+                        .IsRequired()
+                        .HasMaxLength(200)
+                        .HasColumnType("TEXT");
+
+                    b.HasKey("SessionId");
+
+                    b.HasIndex("ProjectId", "WorkerRef", "AppliedAt");
+
+                    b.ToTable("RefresherStarts", (string)null);
+                });
+
             modelBuilder.Entity("TeachServe.Server.Persistence.ServerSetting", b =>
                 {
                     b.Property<string>("Key")
@@ -513,6 +557,13 @@ namespace TeachServe.Server.Persistence.Migrations.Sqlite
                         .IsRequired()
                         .HasMaxLength(40)
                         .HasColumnType("TEXT");
+
+                    b.Property<string>("Purpose")
+                        .IsRequired()
+                        .ValueGeneratedOnAdd()
+                        .HasMaxLength(16)
+                        .HasColumnType("TEXT")
+                        .HasDefaultValue("onboarding");
 
                     b.Property<byte[]>("RefKey")
                         .IsRequired()
@@ -862,6 +913,15 @@ namespace TeachServe.Server.Persistence.Migrations.Sqlite
                     b.HasOne("TeachServe.Server.Projects.Project", null)
                         .WithMany()
                         .HasForeignKey("ProjectId")
+                        .OnDelete(DeleteBehavior.Cascade)
+                        .IsRequired();
+                });
+
+            modelBuilder.Entity("TeachServe.Server.LiveQuality.RefresherStart", b =>
+                {
+                    b.HasOne("TeachServe.Server.Sessions.Session", null)
+                        .WithOne()
+                        .HasForeignKey("TeachServe.Server.LiveQuality.RefresherStart", "SessionId")
                         .OnDelete(DeleteBehavior.Cascade)
                         .IsRequired();
                 });
