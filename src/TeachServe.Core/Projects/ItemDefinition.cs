@@ -4,7 +4,7 @@ namespace TeachServe.Core.Projects;
 public sealed record ItemDefinition
 {
     public required string Id { get; init; }
-    /// <summary><c>teach</c> or <c>test</c>.</summary>
+    /// <summary><c>teach</c>, <c>test</c> or <c>live</c>.</summary>
     public required string Pool { get; init; }
     /// <summary>The true label, one of the project's label names.</summary>
     public required string Label { get; init; }
@@ -31,6 +31,11 @@ public static class Pools
 {
     public const string Teach = "teach";
     public const string Test = "test";
+    /// <summary>
+    /// Known-answer items for live checks after release: stored with the project, never taught, tested or compiled
+    /// into a model version.
+    /// </summary>
+    public const string Live = "live";
 }
 
 /// <summary>A project as loaded: settings plus items, already validated.</summary>

@@ -182,8 +182,8 @@ public static class ProjectValidator
                     teach++;
                 else if (item.Pool == Pools.Test)
                     test++;
-                else
-                    Item(i, FieldPath.Member(path, "pool"), $"unknown pool '{item.Pool}'; expected {Pools.Teach} or {Pools.Test}");
+                else if (item.Pool != Pools.Live)
+                    Item(i, FieldPath.Member(path, "pool"), $"unknown pool '{item.Pool}'; expected {Pools.Teach}, {Pools.Test} or {Pools.Live}");
 
                 if (item.Label is null || !labels.Contains(item.Label))
                     Item(i, FieldPath.Member(path, "label"), $"unknown label '{item.Label}'; expected {Names(labelList)}");

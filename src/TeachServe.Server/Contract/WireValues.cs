@@ -34,6 +34,9 @@ public sealed class WireValues : IOpenApiSchemaTransformer
             [(typeof(ExperimentView), "status")] = ExperimentStatuses.All,
             [(typeof(SimulationView), "status")] = SimulationStatuses.All,
             [(typeof(HealthStatus), "status")] = HealthApi.Statuses,
+            [(typeof(LiveQuality.LiveAnnotatorView), "status")] = LiveQuality.LiveStatusNames.All,
+            [(typeof(LiveQuality.LiveAnnotatorStatus), "status")] = LiveQuality.LiveStatusNames.All,
+            [(typeof(Core.Projects.ItemDefinition), "pool")] = [Core.Projects.Pools.Teach, Core.Projects.Pools.Test, Core.Projects.Pools.Live],
             [(typeof(StartSessionRequest), "purpose")] = SessionPurposes.All,
             [(typeof(SessionView), "purpose")] = SessionPurposes.All,
             [(typeof(AnnotatorPageState), "purpose")] = SessionPurposes.All,
@@ -46,9 +49,15 @@ public sealed class WireValues : IOpenApiSchemaTransformer
     public static readonly IReadOnlySet<Type> ReportTypes =
         Reachable([typeof(Core.Experiments.ExperimentReportResult), typeof(SimulationResult), typeof(Core.Fitting.FitResult), typeof(Core.Fitting.CalibrationReport)]);
 
-    /// <summary>Query or route parameter name → values (the session list's phase filter, the kind of project key).</summary>
+    /// <summary>
+    /// Query or route parameter name → values (the session list's phase filter, the kind of project key, the live-quality
+    /// list's status filter).
+    /// </summary>
     public static readonly IReadOnlyDictionary<string, IReadOnlyList<string>> Parameters =
-        new Dictionary<string, IReadOnlyList<string>> { ["phase"] = Phases.All, ["kind"] = ProjectKeysApi.Kinds };
+        new Dictionary<string, IReadOnlyList<string>>
+        {
+            ["phase"] = Phases.All, ["kind"] = ProjectKeysApi.Kinds, ["status"] = LiveQuality.LiveStatusNames.All,
+        };
 
     public Task TransformAsync(OpenApiSchema schema, OpenApiSchemaTransformerContext context, CancellationToken cancellationToken)
     {

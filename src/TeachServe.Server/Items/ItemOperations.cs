@@ -86,14 +86,15 @@ public sealed class ItemOperations(TeachServeDb db, TimeProvider time, IOptions<
         return new ItemUploadResult(items.Count, created, updated, unchanged, await CountsAsync(projectId, ct));
     }
 
-    /// <summary>The project's items in the teach and the test pool.</summary>
+    /// <summary>The project's items in the teach, the test and the live pool.</summary>
     public async Task<ItemCounts> CountsAsync(string projectId, CancellationToken ct)
     {
         var counts = await db.Items.Where(i => i.ProjectId == projectId)
             .GroupBy(i => i.Pool).Select(g => new { Pool = g.Key, Count = g.Count() }).ToListAsync(ct);
         return new ItemCounts(
             counts.FirstOrDefault(c => c.Pool == Pools.Teach)?.Count ?? 0,
-            counts.FirstOrDefault(c => c.Pool == Pools.Test)?.Count ?? 0);
+            counts.FirstOrDefault(c => c.Pool == Pools.Test)?.Count ?? 0,
+            counts.FirstOrDefault(c => c.Pool == Pools.Live)?.Count ?? 0);
     }
 
     /// <summary>The project's items by pool and label (labels without items are absent).</summary>
@@ -102,16 +103,16 @@ public sealed class ItemOperations(TeachServeDb db, TimeProvider time, IOptions<
             .GroupBy(i => new { i.Pool, i.Label }).Select(g => new LabelCount(g.Key.Pool, g.Key.Label, g.Count())).ToListAsync(ct);
 
     /// <summary>
-    /// Family <c>text</c>: embeds every item of the project, tracked or stored, whose text has no embedding from the
+    /// Family <c>text</c>: embeds every compiled item of the project (live-check items are never compiled), tracked or stored, whose text has no embedding from the
     /// current model yet (new and changed items, and items uploaded before the project became a text project), so
     /// each text is embedded once. The rows are saved by the caller, in the same transaction as the upload.
     /// </summary>
     public async Task<int> EmbedTextsAsync(string projectId, CancellationToken ct)
     {
         var model = embeddings.ModelName;
-        await db.Items.Where(i => i.ProjectId == projectId && (i.Embedding == null || i.EmbeddingModel != model)).LoadAsync(ct);
+        await db.Items.Where(i => i.ProjectId == projectId && i.Pool != Pools.Live && (i.Embedding == null || i.EmbeddingModel != model)).LoadAsync(ct);
         var stale = db.ChangeTracker.Entries<Item>()
-            .Where(e => e.Entity.ProjectId == projectId && e.State != EntityState.Deleted
+            .Where(e => e.Entity.ProjectId == projectId && e.State != EntityState.Deleted && e.Entity.Pool != Pools.Live
                 && (e.State is EntityState.Added or EntityState.Modified || e.Entity.Embedding is null || e.Entity.EmbeddingModel != model))
             .Select(e => e.Entity).ToList();
         var texts = stale.Select(i => Json.Deserialize<ItemDefinition>(i.Json).Content?.Text ?? "").ToList();

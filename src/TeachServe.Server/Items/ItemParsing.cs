@@ -30,13 +30,24 @@ public static class ItemParsing
         if (read.Items.Count + problems.Count == 0)
             problems.Add(new FieldProblem("body", "contains no items"));
 
-        var sources = new ProjectSources("project", Source, read.Lines);
-        problems.AddRange(ProjectValidator.Validate(settings, read.Items, sources)
-            .Where(p => p.File == Source && p.Line is not null)
-            .Select(FromCore));
-        for (var i = 0; i < read.Items.Count; i++)
-            CheckSizes(read.Items[i], read.Lines[i], problems);
+        problems.AddRange(Check(settings, read.Items, read.Lines));
         return new Parsed(read.Items, problems.OrderBy(p => p.Line ?? 0).ToList());
+    }
+
+    /// <summary>
+    /// The per-item checks of an upload, for items already read (an upload's, or items another request carries inline):
+    /// each problem names its item by <paramref name="lines"/> (parallel to the items) and its field. Whole-project
+    /// rules are left to compiling.
+    /// </summary>
+    public static List<FieldProblem> Check(ProjectSettings settings, IReadOnlyList<ItemDefinition> items, IReadOnlyList<int> lines)
+    {
+        var sources = new ProjectSources("project", Source, lines);
+        var problems = ProjectValidator.Validate(settings, items, sources)
+            .Where(p => p.File == Source && p.Line is not null)
+            .Select(FromCore).ToList();
+        for (var i = 0; i < items.Count; i++)
+            CheckSizes(items[i], lines[i], problems);
+        return problems;
     }
 
     /// <summary>Bounds the engine does not impose but a shared server must.</summary>
@@ -53,6 +64,8 @@ public static class ItemParsing
             "explanation", $"must be at most {ItemLimits.ExplanationLength} characters");
         Require(item.Content?.Text is null || item.Content.Text.Length <= ItemLimits.TextLength,
             "content.text", $"must be at most {ItemLimits.TextLength} characters");
+        Require(item.Content?.Svg is null || item.Content.Svg.Length <= ItemLimits.SvgLength,
+            "content.svg", $"must be at most {ItemLimits.SvgLength} characters");
         Require(item.Content?.ImageUrl is null || item.Content.ImageUrl.Length <= ProjectLimits.UrlLength,
             "content.imageUrl", $"must be at most {ProjectLimits.UrlLength} characters");
         Require(item.Features is null || item.Features.Count <= ItemLimits.MaxFeatures,

@@ -1,3 +1,4 @@
+using System.ComponentModel;
 using Microsoft.AspNetCore.Http.HttpResults;
 using TeachServe.Server.Auth;
 using TeachServe.Server.Contract;
@@ -11,11 +12,12 @@ public static class LiveQualityApi
     {
         var group = api.MapGroup("/projects/{projectId}").WithTags("Live quality");
         group.MapPost("/live-checks", PostLiveChecks).RequireKey(KeyRole.Embed).WithName("postLiveChecks")
-            .Problem(StatusCodes.Status409Conflict, "An outcome id was stored earlier with a different body; 'errors' names each index. Nothing was stored.")
-            .Problem(StatusCodes.Status422UnprocessableEntity, "The batch is empty or too long, or outcomes name an unknown worker, item or label; 'errors' names each index and field. Nothing was stored.")
+            .Problem(StatusCodes.Status409Conflict, "An outcome id was stored earlier with a different body, or an item carried inline is stored under its id with other content or in another pool; 'errors' names each index. Nothing was stored.")
+            .Problem(StatusCodes.Status422UnprocessableEntity, "The batch is empty or too long; outcomes name an unknown worker, item or label; an inline item fails the upload's checks; or the project would hold too many items. 'errors' names each index and field. Nothing was stored.")
             .WithSummary("Report live-check outcomes of released annotators (1 to 1,000, stored all or none); retry-safe by outcome id.");
         group.MapGet("/live-quality", ListLiveQuality).RequireKey(KeyRole.Owner).WithName("listLiveQuality")
-            .WithSummary("Every annotator with live checks: status, checks, live error with its Wilson 95 % interval, last alarm.");
+            .Problem(StatusCodes.Status400BadRequest, "'status', 'cursor' or 'limit' is not valid.")
+            .WithSummary("Annotators with live checks, by worker ref, optionally of one status; cursor-paged: status, checks, live error with its Wilson 95 % interval, last alarm.");
         group.MapGet("/live-quality/{workerRef}", GetLiveQuality).RequireKey(KeyRole.Owner).WithName("getLiveQuality")
             .Problem(StatusCodes.Status404NotFound, "No live checks of this worker in the project.")
             .WithSummary("One annotator's live quality and their outcomes in the order the monitor applied them (the newest 1,000).");
@@ -27,8 +29,12 @@ public static class LiveQualityApi
         (await live.PostAsync(projectId, body, ct)).Answer(TypedResults.Ok);
 
     public static async Task<Results<Ok<LiveQualityView>, ProblemHttpResult>> ListLiveQuality(
-        string projectId, LiveQualityOperations live, CancellationToken ct) =>
-        (await live.ListAsync(projectId, ct)).Answer(TypedResults.Ok);
+        string projectId,
+        [Description("Only annotators of this status.")] string? status,
+        [Description("The 'next' of the previous page.")] string? cursor,
+        [Description("Annotators per page, 1 to 500 (default 50).")] int? limit,
+        LiveQualityOperations live, CancellationToken ct) =>
+        (await live.ListAsync(projectId, status, cursor, limit, ct)).Answer(TypedResults.Ok);
 
     public static async Task<Results<Ok<LiveAnnotatorHistory>, ProblemHttpResult>> GetLiveQuality(
         string projectId, string workerRef, LiveQualityOperations live, CancellationToken ct) =>

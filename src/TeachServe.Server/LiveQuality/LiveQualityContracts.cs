@@ -1,3 +1,5 @@
+using System.ComponentModel;
+
 namespace TeachServe.Server.LiveQuality;
 
 /// <summary>One live-check outcome as the platform reports it.</summary>
@@ -7,12 +9,50 @@ public sealed record LiveCheckInput
     public required string OutcomeId { get; init; }
     /// <summary>The released annotator who answered.</summary>
     public required string WorkerRef { get; init; }
-    /// <summary>An item of the project, whose label is the known answer.</summary>
+    /// <summary>An item of the project, whose label is the known answer; or the id of the <c>item</c> carried inline.</summary>
     public required string ItemId { get; init; }
     /// <summary>The label the annotator gave.</summary>
     public required string Label { get; init; }
     /// <summary>When the annotator answered; a worker's outcomes are applied in this order, then in order of arrival.</summary>
     public required DateTimeOffset AnsweredAt { get; init; }
+    /// <summary>
+    /// A known-answer item made up on the fly, stored under <c>itemId</c> in pool <c>live</c> with this batch (never
+    /// taught, tested or compiled). Checked like an uploaded item; sending it again with the same content is a no-op,
+    /// and an item stored earlier under this id with other content (or in another pool) is a 409.
+    /// </summary>
+    [Description("A known-answer item made up on the fly, stored under itemId in pool 'live' with the batch (never taught, tested or compiled). " +
+        "Checked like an uploaded item; the same content again is a no-op; another item stored under this id is a 409.")]
+    public LiveItemInput? Item { get; init; }
+}
+
+/// <summary>An item carried inline by an outcome: an uploaded item's fields without <c>id</c> (the outcome's <c>itemId</c>) and <c>pool</c> (<c>live</c>).</summary>
+[Description("An item carried by an outcome: an uploaded item's fields without id (the outcome's itemId) and pool (live).")]
+public sealed record LiveItemInput
+{
+    /// <summary>The known answer, one of the project's labels.</summary>
+    [Description("The known answer, one of the project's labels.")]
+    public required string Label { get; init; }
+    /// <summary>Numeric features (families <c>linear</c> and <c>stumps</c> need the project's features on every item).</summary>
+    [Description("Numeric features by name (families linear and stumps need the features the other items of the batch have).")]
+    public IReadOnlyDictionary<string, double>? Features { get; init; }
+    /// <summary>Binary attributes: the names of the cues present.</summary>
+    [Description("Binary attributes: the names of the cues present.")]
+    public IReadOnlyList<string>? Attributes { get; init; }
+    /// <summary>Family <c>embedding</c>: the item's vector, as long as the project's other items' vectors.</summary>
+    [Description("Family embedding: the item's vector of finite numbers.")]
+    public float[]? Embedding { get; init; }
+    /// <summary>What the annotator saw: at least one of text, imageUrl or svg.</summary>
+    [Description("What the annotator saw: at least one of text, imageUrl or svg (family text needs text).")]
+    public Core.Projects.ItemContent? Content { get; init; }
+    [Description("Why the known answer is right (kept with the item; live items are never shown with feedback).")]
+    public string? Explanation { get; init; }
+
+    /// <summary>The item as an upload would hold it.</summary>
+    public Core.Projects.ItemDefinition Definition(string itemId) => new()
+    {
+        Id = itemId, Pool = Core.Projects.Pools.Live, Label = Label, Features = Features, Attributes = Attributes,
+        Embedding = Embedding, Content = Content, Explanation = Explanation,
+    };
 }
 
 public sealed record LiveChecksRequest
@@ -21,8 +61,13 @@ public sealed record LiveChecksRequest
     public required IReadOnlyList<LiveCheckInput> Outcomes { get; init; }
 }
 
-/// <summary>What a batch did: outcomes stored now, outcomes already stored earlier (retries), and the status of each annotator it touched.</summary>
-public sealed record LiveChecksStored(int Stored, int Duplicates, IReadOnlyList<LiveAnnotatorStatus> Annotators);
+/// <summary>
+/// What a batch did: outcomes stored now, outcomes already stored earlier (retries), the status of each annotator it
+/// touched, and the inline items it stored in pool <c>live</c> (items already stored with the same content are not counted).
+/// </summary>
+public sealed record LiveChecksStored(
+    int Stored, int Duplicates, IReadOnlyList<LiveAnnotatorStatus> Annotators,
+    [property: Description("Items carried inline and stored now in pool 'live' (items already stored with the same content are not counted).")] int ItemsStored = 0);
 
 public sealed record LiveAnnotatorStatus(string WorkerRef, string Status, int Checks);
 
@@ -35,8 +80,10 @@ public sealed record LiveAnnotatorView(
     double? LiveErrorLow, double? LiveErrorHigh, int Alarms, DateTimeOffset? LastAlarmAt, string? LastAlarm,
     DateTimeOffset StartedAt, DateTimeOffset LastAnsweredAt);
 
-/// <summary>The project's monitored annotators and the monitor's design (answer errors: target p0, drift p1).</summary>
-public sealed record LiveQualityView(IReadOnlyList<LiveAnnotatorView> Annotators);
+/// <summary>The project's monitored annotators, by worker ref; <c>next</c> is the cursor of the following page (null on the last).</summary>
+public sealed record LiveQualityView(
+    IReadOnlyList<LiveAnnotatorView> Annotators,
+    [property: Description("The cursor of the next page (pass it as 'cursor'); null on the last page.")] string? Next = null);
 
 public sealed record LiveOutcomeView(string OutcomeId, string ItemId, string Label, string KnownLabel, bool Wrong, DateTimeOffset AnsweredAt, DateTimeOffset ReceivedAt);
 
@@ -50,6 +97,8 @@ public static class LiveStatusNames
     public const string Watch = "watch";
     public const string RefresherDue = "refresher-due";
     public const string Paused = "paused";
+
+    public static readonly IReadOnlyList<string> All = [Reliable, Watch, RefresherDue, Paused];
 
     public static string Of(Core.LiveQuality.LiveStatus status) => status switch
     {

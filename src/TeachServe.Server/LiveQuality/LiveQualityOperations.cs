@@ -1,11 +1,16 @@
 using Microsoft.EntityFrameworkCore;
+using Microsoft.Extensions.Options;
 using TeachServe.Core.LiveQuality;
+using TeachServe.Core.Projects;
 using TeachServe.Core.Statistics;
 using TeachServe.Server.Events;
 using TeachServe.Server.Infrastructure;
+using TeachServe.Server.Items;
 using TeachServe.Server.Persistence;
+using TeachServe.Server.Projects;
 using TeachServe.Server.Sessions;
 using TeachServe.Server.Versions;
+using TeachServe.Server.Webhooks;
 
 namespace TeachServe.Server.LiveQuality;
 
@@ -14,7 +19,8 @@ namespace TeachServe.Server.LiveQuality;
 /// monitor of each annotator, and the owner's views. Problems are returned, not thrown.
 /// </summary>
 public sealed class LiveQualityOperations(
-    TeachServeDb db, TimeProvider time, ModelVersionCache versions, LiveMonitors monitors, Refreshers refreshers, LiveCheckWriter writer)
+    TeachServeDb db, TimeProvider time, ModelVersionCache versions, LiveMonitors monitors, Refreshers refreshers,
+    LiveCheckWriter writer, OutboxSignal outbox, IOptions<TeachServeOptions> options)
 {
     /// <summary>
     /// Validates a batch, then the live-check writer stores it all or nothing (in one transaction with the batches
@@ -36,7 +42,9 @@ public sealed class LiveQualityOperations(
         return await writer.StoreAsync(new PendingLiveChecks { ProjectId = projectId, Lines = batch }, ct);
     }
 
-    internal sealed record ValidLine(int Index, LiveCheckInput Input, DateTimeOffset AnsweredAt, string KnownLabel, Releases.Release Release);
+    /// <param name="Inline">The item the outcome carries inline, to store in pool <c>live</c> unless already stored.</param>
+    internal sealed record ValidLine(int Index, LiveCheckInput Input, DateTimeOffset AnsweredAt, string KnownLabel, Releases.Release Release,
+        ItemDefinition? Inline = null);
 
     private async Task<Outcome<List<ValidLine>>> ValidateAsync(string projectId, IReadOnlyList<LiveCheckInput> outcomes, CancellationToken ct)
     {
@@ -60,6 +68,7 @@ public sealed class LiveQualityOperations(
             .GroupBy(r => r.WorkerRef, StringComparer.Ordinal).ToDictionary(g => g.Key, g => g.MaxBy(r => r.Id)!, StringComparer.Ordinal);
         var known = await db.Items.AsNoTracking().Where(i => i.ProjectId == projectId && itemIds.Contains(i.ItemId))
             .ToDictionaryAsync(i => i.ItemId, i => i.Label, StringComparer.Ordinal, ct);
+        var inline = await InlineItemsAsync(projectId, outcomes, errors, ct);
         var labelsOf = new Dictionary<int, IReadOnlyDictionary<string, int>>();
         foreach (var number in releases.Values.Select(r => r.ModelVersion).Distinct())
             labelsOf[number] = (await versions.GetAsync(projectId, number, ct)).LabelIndex;
@@ -71,7 +80,8 @@ public sealed class LiveQualityOperations(
             var o = outcomes[i];
             var release = releases.GetValueOrDefault(o.WorkerRef);
             if (release is null) errors.Add(new(i, "workerRef", "No released session of this worker in the project."));
-            if (!known.TryGetValue(o.ItemId, out var knownLabel)) errors.Add(new(i, "itemId", "No such item in the project."));
+            var knownLabel = inline.TryGetValue(o.ItemId, out var carried) ? carried.Label : known.GetValueOrDefault(o.ItemId);
+            if (knownLabel is null) errors.Add(new(i, "itemId", "No such item in the project, and the outcome carries no 'item'."));
             if (release is not null && !labelsOf[release.ModelVersion].ContainsKey(o.Label))
                 errors.Add(new(i, "label", "Not one of the project's labels."));
             var answeredAt = Millisecond(o.AnsweredAt);
@@ -81,10 +91,77 @@ public sealed class LiveQualityOperations(
                 continue;
             }
             firstById[o.OutcomeId] = i;
-            if (release is not null && knownLabel is not null) lines.Add(new(i, o, answeredAt, knownLabel, release));
+            if (release is not null && knownLabel is not null) lines.Add(new(i, o, answeredAt, knownLabel, release, o.Item is null ? null : carried));
         }
-        if (errors.Count > 0) return Problems.Invalid("Some outcomes are not valid; nothing was stored.", errors);
+        if (errors.Count > 0) return Problems.Invalid("Some outcomes are not valid; nothing was stored.", errors.OrderBy(e => e.Index).ToList());
         return lines;
+    }
+
+    /// <summary>
+    /// The items the outcomes carry inline, by id, checked as an upload's items are (<see cref="ItemParsing.Check"/>):
+    /// each problem is added to <paramref name="errors"/> with the outcome's index and <c>item.</c> before the field. An id
+    /// carried twice in the batch must carry the same item.
+    /// </summary>
+    private async Task<Dictionary<string, ItemDefinition>> InlineItemsAsync(
+        string projectId, IReadOnlyList<LiveCheckInput> outcomes, List<LiveCheckError> errors, CancellationToken ct)
+    {
+        var items = new Dictionary<string, ItemDefinition>(StringComparer.Ordinal);
+        var firstOf = new Dictionary<string, int>(StringComparer.Ordinal);
+        var (checks, indices) = (new List<ItemDefinition>(), new List<int>());
+        for (var i = 0; i < outcomes.Count; i++)
+        {
+            if (outcomes[i].Item is not { } item) continue;
+            var definition = item.Definition(outcomes[i].ItemId);
+            if (firstOf.TryGetValue(definition.Id, out var first))
+            {
+                if (Json.Serialize(items[definition.Id]) != Json.Serialize(definition))
+                    errors.Add(new(i, "item", $"Outcome {first} of this batch carries another item under the same id."));
+                continue;
+            }
+            firstOf[definition.Id] = i;
+            items[definition.Id] = definition;
+            checks.Add(definition);
+            indices.Add(i);
+        }
+        if (items.Count == 0) return items;
+
+        var project = await db.Projects.AsNoTracking().FirstAsync(p => p.Id == projectId, ct);
+        foreach (var problem in ItemParsing.Check(ProjectOperations.Settings(project), checks, indices))
+            errors.Add(new(problem.Line ?? 0, problem.Field == "id" ? "itemId" : "item." + problem.Field, problem.Reason));
+        return items;
+    }
+
+    /// <summary>
+    /// The inline items not stored yet, as rows to add with the batch; an item stored earlier under the same id with other
+    /// content (or in another pool) adds a 409 line to <paramref name="conflicts"/>. 422 when the project would hold more
+    /// items than it may.
+    /// </summary>
+    private async Task<Outcome<List<Item>>> NewLiveItemsAsync(
+        string projectId, IReadOnlyList<ValidLine> batch, List<LiveCheckError> conflicts, CancellationToken ct)
+    {
+        var carried = batch.Where(l => l.Inline is not null).DistinctBy(l => l.Inline!.Id, StringComparer.Ordinal).ToList();
+        if (carried.Count == 0) return new List<Item>();
+        var ids = carried.Select(l => l.Inline!.Id).ToList();
+        var stored = await db.Items.AsNoTracking().Where(i => i.ProjectId == projectId && ids.Contains(i.ItemId))
+            .ToDictionaryAsync(i => i.ItemId, i => i.Json, StringComparer.Ordinal, ct);
+        var now = time.GetUtcNow();
+        var rows = new List<Item>();
+        foreach (var line in carried)
+        {
+            var json = Json.Serialize(line.Inline!);
+            if (!stored.TryGetValue(line.Inline!.Id, out var earlier))
+                rows.Add(new Item { ProjectId = projectId, ItemId = line.Inline.Id, Pool = Pools.Live, Label = line.Inline.Label, Json = json, UpdatedAt = now });
+            else if (earlier != json)
+                conflicts.Add(new(line.Index, "item", "An item with this id is stored with other content or in another pool; items carried by outcomes are never changed."));
+        }
+        if (rows.Count > 0)
+        {
+            var limit = options.Value.Uploads.MaxItemsPerProject;
+            var count = await db.Items.CountAsync(i => i.ProjectId == projectId, ct);
+            if (count + rows.Count > limit)
+                return Problems.Unprocessable($"A project may hold at most {limit} items; this batch's items would make {count + rows.Count}. Nothing was stored.");
+        }
+        return rows;
     }
 
     // ---- storing and applying: run by LiveCheckWriter, one transaction for a group of validated batches ----
@@ -105,7 +182,9 @@ public sealed class LiveQualityOperations(
         var stored = await StoredAsync(group, ct);
 
         var results = new Outcome<LiveChecksStored>[group.Count];
-        var accepted = new List<(int Batch, List<(ValidLine Line, LiveCheckRecord Row)> Fresh)>();
+        var accepted = new List<(int Batch, List<(ValidLine Line, LiveCheckRecord Row)> Fresh, int ItemsStored)>();
+        var projects = new Dictionary<string, Project>(StringComparer.Ordinal);
+        var webhooks = 0;
         for (var b = 0; b < group.Count; b++)
         {
             var projectId = group[b].ProjectId;
@@ -118,12 +197,21 @@ public sealed class LiveQualityOperations(
                          || earlier.Label != line.Input.Label || earlier.AnsweredAt != line.AnsweredAt)
                     conflicts.Add(new(line.Index, "outcomeId", "An outcome with this id was stored earlier with a different body."));
             }
-            if (conflicts.Count > 0)
+            var newItems = await NewLiveItemsAsync(projectId, group[b].Lines, conflicts, ct);
+            if (!newItems.Succeeded)
             {
-                results[b] = Problems.Conflict("Some outcome ids were stored earlier with different bodies; outcomes cannot be changed, and nothing was stored.",
-                    new Dictionary<string, object?> { ["errors"] = conflicts });
+                results[b] = newItems.Problem;
                 continue;
             }
+            if (conflicts.Count > 0)
+            {
+                results[b] = Problems.Conflict("Some outcome ids or items were stored earlier with different bodies; outcomes and their items cannot be changed, and nothing was stored.",
+                    new Dictionary<string, object?> { ["errors"] = conflicts.OrderBy(c => c.Index).ToList() });
+                continue;
+            }
+            // Items carried inline go in with the batch (SaveChanges, in this transaction); two batches of the group
+            // carrying the same new item make the commit fail, and the writer then stores each batch on its own.
+            db.Items.AddRange(newItems.Value);
             var rows = fresh.Select(l => new LiveCheckRecord
             {
                 ProjectId = projectId, OutcomeId = l.Input.OutcomeId, WorkerRef = l.Input.WorkerRef, ItemId = l.Input.ItemId,
@@ -131,11 +219,11 @@ public sealed class LiveQualityOperations(
                 AnsweredAt = l.AnsweredAt, ReceivedAt = now,
             }).ToList();
             foreach (var row in rows) stored[(projectId, row.OutcomeId)] = row;
-            accepted.Add((b, fresh.Zip(rows).ToList()));
+            accepted.Add((b, fresh.Zip(rows).ToList(), newItems.Value.Count));
         }
         // In queue order, so the ids (arrival order) follow the batches; the rows stay untracked.
         using var statements = new LiveCheckStatements(db);
-        foreach (var (_, fresh) in accepted)
+        foreach (var (_, fresh, _) in accepted)
             foreach (var (_, row) in fresh) await statements.InsertAsync(row, ct);
 
         // Each annotator's monitor once for the group: their new outcomes of every batch together.
@@ -149,20 +237,27 @@ public sealed class LiveQualityOperations(
             var monitor = await MonitorAsync(worker.Key.ProjectId, release, now, ct, loaded.GetValueOrDefault(worker.Key));
             // A refresher that ended before these outcomes arrived is applied first (it usually was, when it ended).
             await Refreshers.ApplyPendingAsync(db, monitor.Record, now, ct);
-            var record = await ApplyAsync(monitor, worker.Select(f => f.Row).ToList(), now, ct);
+            var statusBefore = monitor.Record.Status;
+            var log = new ApplyLog();
+            var record = await ApplyAsync(monitor, worker.Select(f => f.Row).ToList(), now, ct, log);
+            webhooks += LiveStatusWebhooks.Add(db, await ProjectAsync(worker.Key.ProjectId), record, statusBefore, log.Changes, log.Rebuilt, log.Last!, now);
             applied[worker.Key] = new LiveAnnotatorStatus(record.WorkerRef, record.Status, record.Checks);
         }
         await FlushMonitorsAsync(statements, ct);
         await db.SaveChangesAsync(ct);
         await tx.CommitAsync(ct);
+        if (webhooks > 0) outbox.Notify();
 
-        foreach (var (b, fresh) in accepted)
+        foreach (var (b, fresh, itemsStored) in accepted)
         {
             var statuses = fresh.Select(f => f.Line.Input.WorkerRef).Distinct(StringComparer.Ordinal)
                 .Select(w => applied[(group[b].ProjectId, w)]).ToList();
-            results[b] = new LiveChecksStored(fresh.Count, group[b].Lines.Count - fresh.Count, statuses);
+            results[b] = new LiveChecksStored(fresh.Count, group[b].Lines.Count - fresh.Count, statuses, itemsStored);
         }
         return results;
+
+        async Task<Project> ProjectAsync(string id) =>
+            projects.TryGetValue(id, out var known) ? known : projects[id] = await db.Projects.AsNoTracking().FirstAsync(p => p.Id == id, ct);
     }
 
     /// <summary>Writes the monitors the group started or moved through the prepared statements; SaveChanges then writes the events.</summary>
@@ -246,7 +341,7 @@ public sealed class LiveQualityOperations(
     /// </summary>
     private async Task<LiveMonitorRecord> ApplyAsync(
         (LiveMonitorRecord Record, LiveMonitor Monitor) target, List<LiveCheckRecord> fresh,
-        DateTimeOffset now, CancellationToken ct)
+        DateTimeOffset now, CancellationToken ct, ApplyLog? log = null)
     {
         var (record, monitor) = target;
         var ordered = fresh.OrderBy(c => c.AnsweredAt).ThenBy(c => c.Id).ToList();
@@ -277,23 +372,13 @@ public sealed class LiveQualityOperations(
             if (step.Alarms != LiveAlarms.None)
                 (record.LastAlarmAt, record.LastAlarm) = (check.AnsweredAt, "count-cusum");
             if (state.Status != before)
-            {
-                db.Events.Add(new SessionEvent
-                {
-                    ProjectId = record.ProjectId, SessionId = record.SessionId, WorkerRef = record.WorkerRef,
-                    Type = EventTypes.LiveStatusChanged, At = now,
-                    DataJson = Json.Serialize(new
-                    {
-                        from = LiveStatusNames.Of(before), to = LiveStatusNames.Of(state.Status), outcomeId = check.OutcomeId,
-                        answeredAt = check.AnsweredAt, checks = state.Checks, errors = state.Errors, alarm = step.Alarms != LiveAlarms.None,
-                        rebuilt = !inOrder,
-                    }),
-                });
-            }
+                StatusChanged(record, new LiveStatusChange(LiveStatusNames.Of(before), LiveStatusNames.Of(state.Status), check.OutcomeId,
+                    check.AnsweredAt, state.Checks, state.Errors, step.Alarms != LiveAlarms.None), !inOrder, now, log);
         }
 
         while (refreshersBetween.TryDequeue(out var later)) state = LiveMonitor.AfterRefresher(state, later.Outcome);
         var last = ordered[^1];
+        if (log is not null) (log.Rebuilt, log.Last) = (!inOrder, last);
         record.State = state.ToBytes();
         record.Status = LiveStatusNames.Of(state.Status);
         (record.Checks, record.Errors, record.Alarms) = (state.Checks, state.Errors, state.Alarms);
@@ -303,6 +388,30 @@ public sealed class LiveQualityOperations(
         return record;
     }
 
+    /// <summary>What <see cref="ApplyAsync"/> did to one monitor: its status changes in order, whether it rebuilt the state, the last outcome applied.</summary>
+    private sealed class ApplyLog
+    {
+        public List<LiveStatusChange> Changes { get; } = [];
+        public bool Rebuilt { get; set; }
+        public LiveCheckRecord? Last { get; set; }
+    }
+
+    /// <summary>A status change is an event of the project's log (and, through <see cref="ApplyLog"/>, a webhook delivery).</summary>
+    private void StatusChanged(LiveMonitorRecord record, LiveStatusChange change, bool rebuilt, DateTimeOffset now, ApplyLog? log)
+    {
+        db.Events.Add(new SessionEvent
+        {
+            ProjectId = record.ProjectId, SessionId = record.SessionId, WorkerRef = record.WorkerRef,
+            Type = EventTypes.LiveStatusChanged, At = now,
+            DataJson = Json.Serialize(new
+            {
+                from = change.From, to = change.To, outcomeId = change.OutcomeId, answeredAt = change.AnsweredAt,
+                checks = change.Checks, errors = change.Errors, alarm = change.Alarm, rebuilt,
+            }),
+        });
+        log?.Changes.Add(change);
+    }
+
     /// <summary>Every monitored annotator of the project, by worker ref.</summary>
     public async Task<Outcome<LiveQualityView>> ListAsync(string projectId, CancellationToken ct)
     {
@@ -310,6 +419,28 @@ public sealed class LiveQualityOperations(
         await refreshers.ApplyEndedAsync(projectId, ct);
         var rows = await db.LiveMonitors.AsNoTracking().Where(m => m.ProjectId == projectId).OrderBy(m => m.WorkerRef).ToListAsync(ct);
         return new LiveQualityView(rows.Select(View).ToList());
+    }
+
+    /// <summary>
+    /// One page of the project's monitored annotators, by worker ref, optionally of one status; 400 for an unknown
+    /// status, a foreign cursor or a limit out of range.
+    /// </summary>
+    public async Task<Outcome<LiveQualityView>> ListAsync(string projectId, string? status, string? cursor, int? limit, CancellationToken ct)
+    {
+        if (status is not null && !LiveStatusNames.All.Contains(status))
+            return Problems.BadRequest($"'status' must be one of {string.Join(", ", LiveStatusNames.All)}.");
+        var read = Cursor.Read(cursor, "cursor");
+        if (read.Problem is { } badCursor) return badCursor;
+        var size = Cursor.PageSize(limit);
+        if (size.Problem is { } badLimit) return badLimit;
+        var (after, take) = (read.Value, size.Value);
+        if (await ProjectScope.MissingProjectAsync(db, projectId, ct) is { } missing) return missing;
+        var query = db.LiveMonitors.AsNoTracking().Where(m => m.ProjectId == projectId);
+        if (status is not null) query = query.Where(m => m.Status == status);
+        if (after is not null) query = query.Where(m => string.Compare(m.WorkerRef, after) > 0);
+        var rows = await query.OrderBy(m => m.WorkerRef).Take(take + 1).ToListAsync(ct);
+        var page = rows.Take(take).Select(View).ToList();
+        return new LiveQualityView(page, rows.Count > take ? Cursor.Encode(page[^1].WorkerRef) : null);
     }
 
     /// <summary>One annotator's live quality and outcome history; 404 when they have no live checks.</summary>
@@ -338,7 +469,9 @@ public sealed class LiveQualityOperations(
     }
 
     private static bool Same(LiveCheckInput a, LiveCheckInput b) =>
-        a.WorkerRef == b.WorkerRef && a.ItemId == b.ItemId && a.Label == b.Label && Millisecond(a.AnsweredAt) == Millisecond(b.AnsweredAt);
+        a.WorkerRef == b.WorkerRef && a.ItemId == b.ItemId && a.Label == b.Label && Millisecond(a.AnsweredAt) == Millisecond(b.AnsweredAt)
+        && (a.Item is null) == (b.Item is null)
+        && (a.Item is null || Json.Serialize(a.Item.Definition(a.ItemId)) == Json.Serialize(b.Item!.Definition(b.ItemId)));
 
     /// <summary>UTC, to the millisecond: both stores keep that exactly, so a retry compares equal to what was stored.</summary>
     private static DateTimeOffset Millisecond(DateTimeOffset at)

@@ -18,7 +18,10 @@ public sealed record ProjectView(
 /// <summary>The webhook as shown back: the secret is write-only.</summary>
 public sealed record WebhookView(string Url, bool SecretSet);
 
-public sealed record ItemCounts(int Teach, int Test);
+/// <summary>Items per pool; <c>live</c> items are known answers for live checks, never compiled into a version.</summary>
+public sealed record ItemCounts(
+    int Teach, int Test,
+    [property: System.ComponentModel.Description("Items in pool 'live': known answers for live checks, never taught, tested or compiled.")] int Live = 0);
 
 /// <summary>Where and how release decisions are pushed to the platform.</summary>
 public sealed record ReleaseWebhookSettings

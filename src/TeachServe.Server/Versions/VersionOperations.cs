@@ -134,7 +134,8 @@ public sealed class VersionOperations(
         // project) are embedded first, so the one read below has every vector beside its item.
         if (text && await items.EmbedTextsAsync(project.Id, ct) > 0)
             await db.SaveChangesAsync(ct);
-        var rows = await db.Items.AsNoTracking().Where(i => i.ProjectId == project.Id).OrderBy(i => i.ItemId)
+        // Live-check items are never compiled: a version holds the same items, and hashes the same, with or without them.
+        var rows = await db.Items.AsNoTracking().Where(i => i.ProjectId == project.Id && i.Pool != Pools.Live).OrderBy(i => i.ItemId)
             .Select(i => new { i.Json, Embedding = text ? i.Embedding : null, i.EmbeddingModel }).ToListAsync(ct);
         var definitions = rows.Select(r => Json.Deserialize<ItemDefinition>(r.Json)).ToList();
         var sources = new ProjectSources("project", "items");

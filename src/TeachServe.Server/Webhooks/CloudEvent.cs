@@ -11,8 +11,8 @@ namespace TeachServe.Server.Webhooks;
 /// <param name="Id">The message id, also sent as <c>webhook-id</c>: random per event, the same on every retry.</param>
 /// <param name="Source">Where the event happened: <c>/projects/{projectId}</c> (a URI reference; spec.md, "source").</param>
 /// <param name="Type">Our event name under a reverse-DNS prefix, as spec.md "type" recommends (<see cref="WebhookEvents"/>).</param>
-/// <param name="Subject">What the event is about within the source: the session id.</param>
-/// <param name="Time">When the session ended (RFC 3339), not when it was delivered.</param>
+/// <param name="Subject">What the event is about within the source: the session id (for a live status, the session whose release the monitor continues).</param>
+/// <param name="Time">When the event happened (RFC 3339): the session's end, or the storing of the outcome that changed a live status; not when it was delivered.</param>
 public sealed record CloudEvent<TData>(
     string Id, string Source, string Type, string Subject, DateTimeOffset Time,
     [property: JsonPropertyOrder(1)] TData Data)

@@ -21,18 +21,26 @@ public static class Outbox
     /// The delivery row for a project with a webhook (null without one), to commit with its cause. The body is
     /// serialised once here and stored, so every retry sends the same bytes under the same id.
     /// </summary>
-    public static OutboxMessage? Message(Project project, string eventType, DateTimeOffset occurredAt, SessionEndedData data)
+    public static OutboxMessage? Message(Project project, string eventType, DateTimeOffset occurredAt, SessionEndedData data) =>
+        Message(project, eventType, occurredAt, data.SessionId, data.WorkerRef, data);
+
+    /// <summary>
+    /// The delivery row of any event about one session and its worker (null for a project without a webhook); the
+    /// CloudEvent's subject is the session id.
+    /// </summary>
+    public static OutboxMessage? Message<TData>(
+        Project project, string eventType, DateTimeOffset occurredAt, string sessionId, string workerRef, TData data)
     {
         if (project.WebhookUrl is null) return null;
         var id = NewDeliveryId();
-        var cloudEvent = new CloudEvent<SessionEndedData>(
-            id, WebhookEvents.SourceOf(project.Id), WebhookEvents.TypeOf(eventType), data.SessionId, occurredAt, data);
+        var cloudEvent = new CloudEvent<TData>(
+            id, WebhookEvents.SourceOf(project.Id), WebhookEvents.TypeOf(eventType), sessionId, occurredAt, data);
         return new OutboxMessage
         {
             ProjectId = project.Id,
             DeliveryId = id,
-            SessionId = data.SessionId,
-            WorkerRef = data.WorkerRef,
+            SessionId = sessionId,
+            WorkerRef = workerRef,
             EventType = eventType,
             Url = project.WebhookUrl,
             PayloadJson = Json.Serialize(cloudEvent),
