@@ -266,7 +266,7 @@ public sealed class LiveQualityOperations(TeachServeDb db, TimeProvider time, Mo
         return new LiveAnnotatorHistory(View(record), outcomes);
     }
 
-    private static LiveAnnotatorView View(LiveMonitorRecord m)
+    internal static LiveAnnotatorView View(LiveMonitorRecord m)
     {
         Interval? interval = m.Checks > 0 ? ProportionIntervals.Wilson(m.Errors, m.Checks) : null;
         return new LiveAnnotatorView(

@@ -41,6 +41,7 @@ public static class ConsoleEndpoints
         console.MapGet("/events.jsonl", ExportEvents);
         console.MapGet("/sessions.csv", ExportSessions);
         console.MapGet("/plots/{name}", Plot);
+        console.MapLiveConsole();
         return console;
     }
 
@@ -259,10 +260,10 @@ public static class ConsoleEndpoints
 
     // ---------- rendering ----------
 
-    private static string Token(HttpContext http, IAntiforgery forms) => forms.GetAndStoreTokens(http).RequestToken!;
+    internal static string Token(HttpContext http, IAntiforgery forms) => forms.GetAndStoreTokens(http).RequestToken!;
 
     /// <summary>A page component with the pages' security headers (no script at all, no framing).</summary>
-    private static RazorComponentResult<TPage> Render<TPage, TModel>(HttpContext http, TModel model, int status)
+    internal static RazorComponentResult<TPage> Render<TPage, TModel>(HttpContext http, TModel model, int status)
         where TPage : ConsolePage<TModel>
     {
         PageHeaders.Apply(http.Response, "'none'", externalImages: false);
