@@ -12,7 +12,7 @@ namespace TeachServe.Server.OwnerConsole;
 public static class LivePlots
 {
     /// <summary>The phone picture, shown at its own width on a 390-pixel screen.</summary>
-    public static readonly PlotSize Phone = new(360, 330);
+    public static readonly PlotSize Phone = new(360, 360);
 
     public static readonly SeriesStyle Moving = new(OkabeIto.Blue, MarkerShape.FilledCircle);
     public static readonly SeriesStyle Cumulative = new(OkabeIto.Black, MarkerShape.FilledSquare);
@@ -33,19 +33,25 @@ public static class LivePlots
         var top = y.High * 0.96;
         Marks.Points(plot, Alarm, alarms.Select(p => (double)p.Check).ToArray(), alarms.Select(_ => top).ToArray(), Marks.MarkerSize + 3);
         Marks.Reference(plot, x.Low, targetAnswerError, x.High, targetAnswerError, $"target p0 {targetAnswerError:0.###}");
-        plot.Axes.SetLimits(x.Low, x.High, y.WithRoomBelow().Low, y.High);
-        PlotTheme.Legend(plot,
-        [
-            PlotTheme.LineItem($"last {LiveConsoleReads.Window} checks (95 % band)", Moving),
-            PlotTheme.LineItem("since monitoring began", Cumulative),
-            .. alarms.Count > 0 ? [PlotTheme.PointItem("drift alarm", Alarm)] : Array.Empty<LegendItem>(),
-        ]);
-        if (phone)
-        {
-            plot.Legend.Orientation = Orientation.Horizontal;
-            plot.ShowLegend(Edge.Bottom).Alignment = Alignment.UpperCenter;
-            plot.Legend.FontSize = 11;
-        }
+        // A sliver to the right, so that an alarm at the last check is drawn whole.
+        plot.Axes.SetLimits(x.Low, x.High * 1.015, y.WithRoomBelow().Low, y.High);
+        // The legend goes below the data (PlotTheme's place, on the right, would leave the narrow phone picture no room).
+        var legend = plot.Legend;
+        legend.DisplayPlottableLegendItems = false;
+        legend.ManualItems.Clear();
+        legend.ManualItems.Add(PlotTheme.LineItem($"last {LiveConsoleReads.Window} checks (95 % band)", Moving));
+        legend.ManualItems.Add(PlotTheme.LineItem("since monitoring began", Cumulative));
+        if (alarms.Count > 0) legend.ManualItems.Add(PlotTheme.PointItem("drift alarm", Alarm));
+        legend.FontName = PlotTheme.Face;
+        legend.SetBestFontOnEachRender = false;
+        legend.FontSize = phone ? 11 : 12;
+        legend.FontColor = PlotTheme.Ink;
+        legend.OutlineColor = PlotTheme.GridLine;
+        legend.OutlineWidth = 1;
+        legend.ShadowColor = Colors.Transparent;
+        legend.BackgroundColor = Colors.White;
+        legend.Orientation = Orientation.Horizontal;
+        plot.ShowLegend(Edge.Bottom).Alignment = Alignment.UpperCenter;
         return plot;
     }
 }
