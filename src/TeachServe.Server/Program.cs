@@ -112,6 +112,8 @@ builder.Services.AddScoped<WorkerOperations>();
 builder.Services.AddScoped<ExposureOperations>();
 builder.Services.AddScoped<MediaOperations>();
 builder.Services.AddSingleton<LiveMonitors>();
+builder.Services.AddSingleton<LiveCheckWriter>();
+builder.Services.AddHostedService(sp => sp.GetRequiredService<LiveCheckWriter>());
 builder.Services.AddScoped<LiveQualityOperations>();
 builder.Services.AddScoped<Refreshers>();
 builder.Services.AddAnnotatePage();

@@ -18,18 +18,12 @@ public sealed partial class ConsolePageTests
     /// <summary>A worker ref with a slash, an escape sequence and markup: its link must come back to the same worker.</summary>
     private const string PathWorker = "team/a %2F b <i>";
 
-    private static async Task ReleaseAsync(TestApp app, TestApp.Keys keys, string workerRef)
-    {
-        var (final, _) = await TestApp.RunAsync(await app.StartSessionAsync(keys, workerRef), (item, _) => TestApp.TruthOf(item));
-        Assert.Equal("released", final["phase"]!.GetValue<string>());
-    }
-
     private static object LiveOutcome(string id, string worker, int item, string label, int minute) =>
         new { outcomeId = id, workerRef = worker, itemId = $"t{item:00}", label, answeredAt = LiveStart.AddMinutes(minute) };
 
     private static string TruthOfItem(int i) => i < 10 ? "sound" : "defect";
 
-    private static async Task<(HttpStatusCode Status, string Body, HttpResponseMessage Response)> GetAsync(HttpClient client, string cookies, string path)
+    private static async Task<(HttpStatusCode Status, string Body, HttpResponseMessage Response)> GetLiveAsync(HttpClient client, string cookies, string path)
     {
         using var request = new HttpRequestMessage(HttpMethod.Get, path);
         request.Headers.Add("Cookie", cookies);
@@ -42,10 +36,10 @@ public sealed partial class ConsolePageTests
     {
         using var app = new TestApp();
         var keys = await app.ReadyProjectAsync();
-        await ReleaseAsync(app, keys, "w1");
+        await app.ReleaseAsync(keys, "w1");
         var (client, cookies) = await SignInAsync(app, keys.OwnerKey);
 
-        var (status, html, _) = await GetAsync(client, cookies, "/console/live");
+        var (status, html, _) = await GetLiveAsync(client, cookies, "/console/live");
         Assert.Equal(HttpStatusCode.OK, status);
         Assert.Contains("<a href=\"/console/live\" aria-current=\"page\">Live quality</a>", html, StringComparison.Ordinal);
         Assert.Contains("No live checks yet", html, StringComparison.Ordinal);
@@ -53,9 +47,9 @@ public sealed partial class ConsolePageTests
         Assert.Contains("<a href=\"/reference#op-postlivechecks\">", html, StringComparison.Ordinal);
         Assert.DoesNotContain("<table", html, StringComparison.Ordinal);
         // The onboarding page links it too.
-        Assert.Contains("<a href=\"/console/live\">Live quality</a>", (await GetAsync(client, cookies, "/console")).Body, StringComparison.Ordinal);
+        Assert.Contains("<a href=\"/console/live\">Live quality</a>", (await GetLiveAsync(client, cookies, "/console")).Body, StringComparison.Ordinal);
 
-        var (csvStatus, csv, _) = await GetAsync(client, cookies, "/console/live.csv");
+        var (csvStatus, csv, _) = await GetLiveAsync(client, cookies, "/console/live.csv");
         Assert.Equal(HttpStatusCode.OK, csvStatus);
         Assert.Equal(string.Join(',', LiveConsoleEndpoints.CsvColumns) + "\r\n", csv);
     }
@@ -65,7 +59,7 @@ public sealed partial class ConsolePageTests
     {
         using var app = new TestApp();
         var keys = await app.ReadyProjectAsync();
-        foreach (var w in new[] { "steady", "clicker", FormulaWorker, PathWorker }) await ReleaseAsync(app, keys, w);
+        foreach (var w in new[] { "steady", "clicker", FormulaWorker, PathWorker }) await app.ReleaseAsync(keys, w);
 
         // steady answers right; clicker at random (seeded) for 60 checks; the other two answer right a few times.
         var random = new SeededRandom(23);
@@ -88,7 +82,7 @@ public sealed partial class ConsolePageTests
         Assert.True(alarms >= 2);
 
         var (client, cookies) = await SignInAsync(app, keys.OwnerKey);
-        var (_, html, _) = await GetAsync(client, cookies, "/console/live");
+        var (_, html, _) = await GetLiveAsync(client, cookies, "/console/live");
         Assert.DoesNotContain("<i>", html, StringComparison.Ordinal);
         Assert.Contains("all <strong>4</strong>", html, StringComparison.Ordinal);
         Assert.Matches("<span class=\"live reliable\">reliable</span> <strong>3</strong>", html);
@@ -100,14 +94,14 @@ public sealed partial class ConsolePageTests
         var live = Pct(clicker["liveError"]!.GetValue<double>());
         Assert.Matches($"<td class=\"num\">60</td>\\s*<td class=\"num\">{clicker["errors"]}</td>\\s*<td class=\"num\">{Regex.Escape(live)} <small>", html);
 
-        var (_, filtered, _) = await GetAsync(client, cookies, "/console/live?status=paused");
+        var (_, filtered, _) = await GetLiveAsync(client, cookies, "/console/live?status=paused");
         Assert.Equal(["clicker"], Regex.Matches(filtered, "<td class=\"worker\"><a [^>]+>([^<]+)</a>").Select(m => m.Groups[1].Value));
         Assert.Contains("Annotators 1–1 of 1, most urgent first.", filtered, StringComparison.Ordinal);
-        var (_, none, _) = await GetAsync(client, cookies, "/console/live?status=refresher-due");
+        var (_, none, _) = await GetLiveAsync(client, cookies, "/console/live?status=refresher-due");
         Assert.Contains("None with this status.", none, StringComparison.Ordinal);
 
         // The annotator view: the alarm, the status change from the live.status events, the outcomes, the picture.
-        var (status, view, _) = await GetAsync(client, cookies, rows[0].Href);
+        var (status, view, _) = await GetLiveAsync(client, cookies, rows[0].Href);
         Assert.Equal(HttpStatusCode.OK, status);
         Assert.Matches("<h2>Drift alarms</h2><p class=\"figure\">" + alarms + "<small>last at 2026-03-02", view);
         Assert.Contains("<span class=\"live reliable\">reliable</span></td>", view, StringComparison.Ordinal);
@@ -116,27 +110,27 @@ public sealed partial class ConsolePageTests
         Assert.Contains("Checks 1–50 of 60, newest first.", view, StringComparison.Ordinal);
         Assert.Equal(50, Regex.Count(view, "<td>t\\d\\d</td>"));
         Assert.Contains("target p0 12 %", view, StringComparison.Ordinal);
-        var (_, older, _) = await GetAsync(client, cookies, rows[0].Href + "?page=2");
+        var (_, older, _) = await GetLiveAsync(client, cookies, rows[0].Href + "?page=2");
         Assert.Contains("Checks 51–60 of 60, newest first.", older, StringComparison.Ordinal);
 
-        var (plotStatus, svg, plot) = await GetAsync(client, cookies, rows[0].Href + "/error.svg");
+        var (plotStatus, svg, plot) = await GetLiveAsync(client, cookies, rows[0].Href + "/error.svg");
         Assert.Equal(HttpStatusCode.OK, plotStatus);
         Assert.Equal("image/svg+xml", plot.Content.Headers.ContentType!.MediaType);
         // p0 = 0.95·0.1 + 0.05/2 = 0.12 (GateDesign.AnswerError with the default lapse 0.05 and two labels).
         Assert.Contains("target p0 0.12", svg, StringComparison.Ordinal);
         Assert.Contains("drift alarm", svg, StringComparison.Ordinal);
-        var (_, phoneSvg, _) = await GetAsync(client, cookies, rows[0].Href + "/error.svg?size=phone");
+        var (_, phoneSvg, _) = await GetLiveAsync(client, cookies, rows[0].Href + "/error.svg?size=phone");
         Assert.Contains($"width=\"{LivePlots.Phone.Width}\"", phoneSvg, StringComparison.Ordinal);
 
         // A worker ref with a slash and "%2F" in it comes back from its link as itself.
         Assert.Equal("/console/live/team%252Fa%2520%25252F%2520b%2520%253Ci%253E", rows[3].Href);
-        var (pathStatus, pathView, _) = await GetAsync(client, cookies, rows[3].Href);
+        var (pathStatus, pathView, _) = await GetLiveAsync(client, cookies, rows[3].Href);
         Assert.Equal(HttpStatusCode.OK, pathStatus);
         Assert.Contains("<span class=\"worker\">team/a %2F b &lt;i&gt;</span>", pathView, StringComparison.Ordinal);
         Assert.Contains("Checks 1–3 of 3", pathView, StringComparison.Ordinal);
 
         // The CSV: every annotator, RFC 4180 quoting, the formula neutralised.
-        var (_, csv, csvResponse) = await GetAsync(client, cookies, "/console/live.csv");
+        var (_, csv, csvResponse) = await GetLiveAsync(client, cookies, "/console/live.csv");
         Assert.Equal("text/csv", csvResponse.Content.Headers.ContentType!.MediaType);
         Assert.Contains("-live-quality.csv", csvResponse.Content.Headers.ContentDisposition!.ToString(), StringComparison.Ordinal);
         var lines = csv.Split("\r\n", StringSplitOptions.RemoveEmptyEntries);
@@ -154,7 +148,7 @@ public sealed partial class ConsolePageTests
         using var app = new TestApp();
         var keys = await app.ReadyProjectAsync();
         var (client, cookies) = await SignInAsync(app, keys.OwnerKey);
-        var (status, _, response) = await GetAsync(client, cookies, "/console/live/nobody");
+        var (status, _, response) = await GetLiveAsync(client, cookies, "/console/live/nobody");
         Assert.Equal(HttpStatusCode.Redirect, status);
         Assert.Equal("/console/live", response.Headers.Location!.ToString());
 

@@ -20,11 +20,11 @@ public sealed partial class ConsolePageTests
         var project = TestApp.ProjectJson();
         project["name"] = "Seams & \"welds\" " + Markup;
         var keys = await app.ReadyProjectAsync(project);
-        await Api.JsonAsync(await app.Client(keys.EmbedKey).PostAsJsonAsync($"/api/v1/projects/{keys.ProjectId}/sessions", new { workerRef = Markup }), 201);
+        var started = await Api.JsonAsync(await app.Client(keys.EmbedKey).PostAsJsonAsync($"/api/v1/projects/{keys.ProjectId}/sessions", new { workerRef = Markup }), 201);
 
         var (client, cookies) = await SignInAsync(app, keys.OwnerKey);
 
-        foreach (var path in new[] { "/console", "/console/project" })
+        foreach (var path in new[] { "/console", "/console/project", $"/console/sessions/{started["sessionId"]!.GetValue<string>()}" })
         {
             using var request = new HttpRequestMessage(HttpMethod.Get, path);
             request.Headers.Add("Cookie", cookies);
@@ -40,7 +40,7 @@ public sealed partial class ConsolePageTests
         using var onboarding = new HttpRequestMessage(HttpMethod.Get, "/console");
         onboarding.Headers.Add("Cookie", cookies);
         var sessions = await (await client.SendAsync(onboarding)).Content.ReadAsStringAsync();
-        Assert.Contains("<td class=\"worker\">&lt;img src=x onerror=alert(1)&gt;</td>", sessions, StringComparison.Ordinal);
+        Assert.Matches("<td class=\"worker\"><a href=\"/console/sessions/[^\"]+\">&lt;img src=x onerror=alert\\(1\\)&gt;</a></td>", sessions);
     }
 
     /// <summary>Signs in to the console; the console's cookies are Secure and the test server speaks plain HTTP, so they are carried by hand.</summary>

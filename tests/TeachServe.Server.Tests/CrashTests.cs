@@ -32,7 +32,30 @@ public sealed class CrashTests
     }
 
     [Fact]
-    public async Task Acknowledged_answers_survive_a_SIGKILL_exactly_once_on_postgres()
+    public Task Acknowledged_answers_survive_a_SIGKILL_exactly_once_on_postgres() =>
+        OnPostgresAsync(settings => CrashAndCheckAsync(21, settings));
+
+    [Theory]
+    [InlineData(12)]
+    public async Task Acknowledged_live_check_outcomes_survive_a_SIGKILL_exactly_once_on_sqlite(int seed)
+    {
+        var data = TestApp.NewDataDirectory();
+        try
+        {
+            await CrashOutcomesAndCheckAsync(seed, new Dictionary<string, string> { ["TeachServe:DataDirectory"] = data });
+        }
+        finally
+        {
+            try { Directory.Delete(data, recursive: true); } catch (IOException) { }
+        }
+    }
+
+    [Fact]
+    public Task Acknowledged_live_check_outcomes_survive_a_SIGKILL_exactly_once_on_postgres() =>
+        OnPostgresAsync(settings => CrashOutcomesAndCheckAsync(22, settings));
+
+    /// <summary>Runs <paramref name="test"/> on a database of its own in the throwaway cluster, dropped afterwards.</summary>
+    private static async Task OnPostgresAsync(Func<Dictionary<string, string>, Task> test)
     {
         // test.sh always provides a throwaway cluster; without one this test fails rather than passing unseen.
         var admin = Environment.GetEnvironmentVariable(TestDatabase.ServerVariable) is { Length: > 0 } server
@@ -48,7 +71,7 @@ public sealed class CrashTests
         try
         {
             var connection = new NpgsqlConnectionStringBuilder(admin) { Database = name }.ConnectionString;
-            await CrashAndCheckAsync(21, new Dictionary<string, string>
+            await test(new Dictionary<string, string>
             {
                 ["TeachServe:Database:Provider"] = "postgres",
                 ["TeachServe:Database:ConnectionString"] = connection,
@@ -62,6 +85,89 @@ public sealed class CrashTests
             await c.OpenAsync();
             await using var drop = new NpgsqlCommand($"DROP DATABASE IF EXISTS \"{name}\" WITH (FORCE)", c);
             await drop.ExecuteNonQueryAsync();
+        }
+    }
+
+    /// <summary>
+    /// Senders post batches of live-check outcomes until a seeded number is acknowledged; SIGKILL; restart on the same
+    /// data. Every acknowledged outcome is stored exactly once with the body sent, each annotator's monitor counts exactly
+    /// their stored outcomes (checks and errors), and sending the acknowledged outcomes again stores nothing.
+    /// </summary>
+    private static async Task CrashOutcomesAndCheckAsync(int seed, Dictionary<string, string> settings)
+    {
+        settings["TeachServe:AdminKey"] = AdminKey;
+        settings["TeachServe:LoadDemo"] = "false";
+        settings["TeachServe:RateLimit:PermitLimit"] = "1000000";
+        var port = ServerProcess.FreePort();
+        var random = new Random(seed);
+        var killAfter = random.Next(200, 2000);
+        var batch = random.Next(1, 21);
+
+        using var runner = new LoadRunner(new LoadOptions
+        {
+            Url = new Uri($"http://127.0.0.1:{port}"), AdminKey = AdminKey, Annotators = 16, Seed = seed,
+            Mode = LoadMode.LiveChecks, Batch = batch, Released = 32,
+            Duration = TimeSpan.FromSeconds(60), Warmup = TimeSpan.Zero, BaselineDuration = TimeSpan.Zero, MaxRequests = 20_000,
+            RecordAcknowledged = true, TolerateErrors = true,
+        }, TextWriter.Null);
+
+        using (var server = await ServerProcess.StartAsync(settings, port))
+        {
+            using var stop = new CancellationTokenSource();
+            var load = runner.RunAsync(stop.Token);
+            // The seeded moment: as soon as a seeded number of outcomes is acknowledged (or the load ends; 120 s at most,
+            // releasing the annotators included).
+            Task reached = Task.WhenAny(runner.WhenAcknowledgedAsync(killAfter), load).WaitAsync(TimeSpan.FromSeconds(120));
+            await reached.ConfigureAwait(ConfigureAwaitOptions.SuppressThrowing);
+            Assert.True(runner.AcknowledgedOutcomes.Count >= killAfter, $"only {runner.AcknowledgedOutcomes.Count} outcomes before the kill:\n{server.Output}");
+            server.Kill();
+            await stop.CancelAsync();
+            try { await load; } catch (OperationCanceledException) { }
+        }
+        var acknowledged = runner.AcknowledgedOutcomes;
+        Assert.Equal(acknowledged.Count, acknowledged.Select(o => o.OutcomeId).Distinct().Count());
+
+        using var restarted = await ServerProcess.StartAsync(settings, port);
+        using var owner = Client(restarted.Url, runner.OwnerKey!);
+        var stored = new Dictionary<string, (string Worker, JsonNode Outcome)>(StringComparer.Ordinal);
+        foreach (var worker in runner.Released)
+        {
+            using var response = await owner.GetAsync($"/api/v1/projects/{runner.ProjectId}/live-quality/{worker}");
+            if (response.StatusCode == System.Net.HttpStatusCode.NotFound)
+            {
+                Assert.DoesNotContain(acknowledged, o => o.WorkerRef == worker);
+                continue;
+            }
+            var history = await Api.JsonAsync(response, 200);
+            var outcomes = history["outcomes"]!.AsArray().Select(o => o!).ToList();
+            // The history lists the newest 1,000; below that it is every stored outcome of the worker.
+            Assert.True(outcomes.Count < 1000, $"{worker} has {outcomes.Count} outcomes: the history may be cut");
+            foreach (var o in outcomes) Assert.True(stored.TryAdd(o["outcomeId"]!.GetValue<string>(), (worker, o)), $"{o["outcomeId"]} is stored twice");
+            // The monitor counts exactly the stored outcomes: none applied twice, none lost between the rows and the state.
+            Assert.Equal(outcomes.Count, history["annotator"]!["checks"]!.GetValue<int>());
+            Assert.Equal(outcomes.Count(o => o["wrong"]!.GetValue<bool>()), history["annotator"]!["errors"]!.GetValue<int>());
+        }
+
+        foreach (var ack in acknowledged)
+        {
+            Assert.True(stored.TryGetValue(ack.OutcomeId, out var s), $"acknowledged outcome {ack.OutcomeId} is missing");
+            Assert.Equal(ack.WorkerRef, s.Worker);
+            Assert.Equal(ack.ItemId, s.Outcome["itemId"]!.GetValue<string>());
+            Assert.Equal(ack.Label, s.Outcome["label"]!.GetValue<string>());
+            Assert.Equal(ack.Wrong, s.Outcome["wrong"]!.GetValue<bool>());
+            Assert.Equal(ack.AnsweredAt, s.Outcome["answeredAt"]!.GetValue<DateTimeOffset>());
+        }
+
+        // A platform retrying after the outage: every acknowledged outcome again is a duplicate, and nothing moves.
+        using var platform = Client(restarted.Url, runner.EmbedKey!);
+        foreach (var chunk in acknowledged.Chunk(1000))
+        {
+            var again = await Api.JsonAsync(await platform.PostAsJsonAsync($"/api/v1/projects/{runner.ProjectId}/live-checks", new
+            {
+                outcomes = chunk.Select(o => new { outcomeId = o.OutcomeId, workerRef = o.WorkerRef, itemId = o.ItemId, label = o.Label, answeredAt = o.AnsweredAt }),
+            }), 200);
+            Assert.Equal(0, again["stored"]!.GetValue<int>());
+            Assert.Equal(chunk.Length, again["duplicates"]!.GetValue<int>());
         }
     }
 

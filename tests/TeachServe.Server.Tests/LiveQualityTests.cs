@@ -17,12 +17,6 @@ public sealed class LiveQualityTests
 
     private static string Truth(int i) => i < 10 ? "sound" : "defect";
 
-    private static async Task ReleaseAsync(TestApp app, TestApp.Keys keys, string workerRef)
-    {
-        var (final, _) = await TestApp.RunAsync(await app.StartSessionAsync(keys, workerRef), (item, _) => TestApp.TruthOf(item));
-        Assert.Equal("released", final["phase"]!.GetValue<string>());
-    }
-
     private static object Outcome(string id, string worker, int item, string label, int minute) =>
         new { outcomeId = id, workerRef = worker, itemId = ItemId(item), label, answeredAt = Start.AddMinutes(minute) };
 
@@ -37,7 +31,7 @@ public sealed class LiveQualityTests
     {
         using var app = new TestApp();
         var keys = await app.ReadyProjectAsync();
-        await ReleaseAsync(app, keys, "w1");
+        await app.ReleaseAsync(keys, "w1");
 
         var batch = new[] { Outcome("o1", "w1", 2, "sound", 3), Outcome("o2", "w1", 12, "sound", 1), Outcome("o3", "w1", 4, "sound", 2) };
         var first = await Api.JsonAsync(await PostAsync(app, keys, batch), 200);
@@ -58,11 +52,55 @@ public sealed class LiveQualityTests
     }
 
     [Fact]
+    public async Task Batches_sent_at_once_are_each_all_or_nothing_and_every_outcome_is_counted_once()
+    {
+        using var app = new TestApp();
+        var keys = await app.ReadyProjectAsync();
+        await app.ReleaseAsync(keys, "w1");
+        await app.ReleaseAsync(keys, "w2");
+        // Sixteen batches at once (the writer stores whichever are waiting together): each has five outcomes of its own,
+        // answered in an order that interleaves the batches (so monitors are rebuilt), and the same "shared" outcome;
+        // batches 0 and 1 also carry "contested" with different labels, so whichever comes second is refused whole.
+        static object[] Batch(int b) =>
+        [
+            .. Enumerable.Range(0, 5).Select(k => Outcome($"b{b}-{k}", k % 2 == 0 ? "w1" : "w2", (b + k) % 20, Truth((b + k) % 20), (k * 16) + b)),
+            Outcome("shared", "w1", 3, "sound", 200),
+            .. b < 2 ? [Outcome("contested", "w2", 4, b == 0 ? "sound" : "defect", 201)] : Array.Empty<object>(),
+        ];
+        var responses = await Task.WhenAll(Enumerable.Range(0, 16).Select(b => PostAsync(app, keys, Batch(b))));
+
+        var codes = responses.Select(r => (int)r.StatusCode).ToList();
+        Assert.Equal([200, 409], codes.Take(2).Order());
+        Assert.All(codes.Skip(2), c => Assert.Equal(200, c));
+        var answers = new List<JsonNode>();
+        foreach (var r in responses.Where(r => r.IsSuccessStatusCode)) answers.Add(await Api.JsonAsync(r, 200));
+        // 15 accepted batches × 5, "shared" once, "contested" once; "shared" is a duplicate in the other 14.
+        Assert.Equal(77, answers.Sum(a => a["stored"]!.GetValue<int>()));
+        Assert.Equal(14, answers.Sum(a => a["duplicates"]!.GetValue<int>()));
+
+        var refused = codes[0] == 409 ? 0 : 1;
+        var h1 = await HistoryAsync(app, keys, "w1");
+        var h2 = await HistoryAsync(app, keys, "w2");
+        var ids = h1["outcomes"]!.AsArray().Concat(h2["outcomes"]!.AsArray()).Select(o => o!["outcomeId"]!.GetValue<string>()).ToList();
+        Assert.Equal(77, ids.Distinct().Count());
+        Assert.Equal(77, ids.Count);
+        Assert.DoesNotContain(ids, id => id.StartsWith($"b{refused}-", StringComparison.Ordinal));
+        Assert.Equal(77, h1["annotator"]!["checks"]!.GetValue<int>() + h2["annotator"]!["checks"]!.GetValue<int>());
+        foreach (var h in new[] { h1, h2 })
+            Assert.Equal(h["outcomes"]!.AsArray().Count, h["annotator"]!["checks"]!.GetValue<int>());
+        // Every outcome is right except "contested" with label defect (item 4 is sound), stored when batch 1 won.
+        var contested = codes[0] == 409 ? "defect" : "sound";
+        Assert.Equal(contested, h2["outcomes"]!.AsArray().Single(o => o!["outcomeId"]!.GetValue<string>() == "contested")!["label"]!.GetValue<string>());
+        Assert.Equal(0, h1["annotator"]!["errors"]!.GetValue<int>());
+        Assert.Equal(contested == "defect" ? 1 : 0, h2["annotator"]!["errors"]!.GetValue<int>());
+    }
+
+    [Fact]
     public async Task An_invalid_line_stores_nothing_of_the_batch_and_names_each_line()
     {
         using var app = new TestApp();
         var keys = await app.ReadyProjectAsync();
-        await ReleaseAsync(app, keys, "w1");
+        await app.ReleaseAsync(keys, "w1");
         await app.StartSessionAsync(keys, "still-learning");
 
         var problem = await Api.ProblemAsync(await PostAsync(app, keys,
@@ -88,8 +126,8 @@ public sealed class LiveQualityTests
     {
         using var app = new TestApp();
         var keys = await app.ReadyProjectAsync();
-        await ReleaseAsync(app, keys, "steady");
-        await ReleaseAsync(app, keys, "clicker");
+        await app.ReleaseAsync(keys, "steady");
+        await app.ReleaseAsync(keys, "clicker");
 
         var random = new SeededRandom(15);
         int? dueAfter = null;
@@ -137,8 +175,8 @@ public sealed class LiveQualityTests
     {
         using var app = new TestApp();
         var keys = await app.ReadyProjectAsync();
-        await ReleaseAsync(app, keys, "late");
-        await ReleaseAsync(app, keys, "ordered");
+        await app.ReleaseAsync(keys, "late");
+        await app.ReleaseAsync(keys, "ordered");
         // The same twenty answers, every fourth wrong: in time order each error is followed by three right answers,
         // which bring the chart back to zero (a wrong answer adds ln(0.5/0.12) ≈ 1.43 nats, a right one takes
         // ln(0.88/0.5) ≈ 0.57), so it never alarms. The late worker's five errors arrive after the right answers;
@@ -164,8 +202,8 @@ public sealed class LiveQualityTests
     {
         using var app = new TestApp();
         var keys = await app.ReadyProjectAsync();
-        await ReleaseAsync(app, keys, "gone");
-        await ReleaseAsync(app, keys, "kept");
+        await app.ReleaseAsync(keys, "gone");
+        await app.ReleaseAsync(keys, "kept");
         await Api.JsonAsync(await PostAsync(app, keys,
             Outcome("g1", "gone", 1, "defect", 1), Outcome("g2", "gone", 2, "defect", 2), Outcome("k1", "kept", 1, "sound", 1)), 200);
 
@@ -188,7 +226,7 @@ public sealed class LiveQualityTests
     {
         using var app = new TestApp();
         var keys = await app.ReadyProjectAsync();
-        await ReleaseAsync(app, keys, "w1");
+        await app.ReleaseAsync(keys, "w1");
         await Api.ProblemAsync(await app.Client(keys.OwnerKey).PostAsJsonAsync(
             $"/api/v1/projects/{keys.ProjectId}/live-checks", new { outcomes = new[] { Outcome("o1", "w1", 1, "sound", 1) } }), 403);
         await Api.JsonAsync(await PostAsync(app, keys, Outcome("o1", "w1", 1, "sound", 1)), 200);

@@ -173,11 +173,18 @@ public sealed class TestApp : WebApplicationFactory<Program>
         return new StartedSession(body["sessionId"]!.GetValue<string>(), token, Client(token));
     }
 
-    /// <summary>Answers until the session ends; <paramref name="answer"/> picks the label from the item shown.</summary>
+    /// <summary>Starts the worker's onboarding and answers every item truly, to a release.</summary>
+    public async Task ReleaseAsync(Keys keys, string workerRef)
+    {
+        var (final, _) = await RunAsync(await StartSessionAsync(keys, workerRef), (item, _) => TruthOf(item));
+        Assert.Equal("released", final["phase"]!.GetValue<string>());
+    }
+
     /// <summary>A session's evidence as its project's owner reads it (the annotator's own token never sees it).</summary>
     public async Task<JsonNode?> EvidenceAsync(Keys keys, string sessionId) =>
         (await Api.JsonAsync(await Client(keys.OwnerKey).GetAsync($"/api/v1/sessions/{sessionId}"), 200))["evidence"];
 
+    /// <summary>Answers until the session ends; <paramref name="answer"/> picks the label from the item shown.</summary>
     public static async Task<(JsonNode Final, List<JsonNode> Responses)> RunAsync(StartedSession s, Func<JsonNode, string, string> answer, int maxSteps = 200, Action<JsonNode>? onResponse = null)
     {
         var responses = new List<JsonNode>();

@@ -16,13 +16,13 @@ namespace TeachServe.Cli.Commands;
 /// </summary>
 internal static class RobustnessCommand
 {
-    public const string Usage = "teachserve robustness DIR [DIR ...] [--learners N] [--seed S] [--policies a,b] [--kinds a,b] [--mastery-streak N] [--mastery-extension N] [--remediation MODE] [--out FILE]";
+    public const string Usage = "teachserve robustness DIR [DIR ...] [--learners N] [--seed S] [--policies a,b] [--kinds a,b] [--mastery-streak N] [--mastery-extension N] [--remediation MODE] [--typicality-weight W] [--out FILE]";
 
     private static readonly string[] DefaultPolicies = [PolicyNames.Random, PolicyNames.StochasticGreedy, PolicyNames.Adaptive, PolicyNames.Cover];
 
     public static int Run(string[] args, TextWriter output, TextWriter error)
     {
-        var options = CliArguments.Parse(args, flags: [], values: ["--learners", "--seed", "--policies", "--kinds", "--out", "--mastery-streak", "--mastery-extension", "--remediation"]);
+        var options = CliArguments.Parse(args, flags: [], values: ["--learners", "--seed", "--policies", "--kinds", "--out", "--mastery-streak", "--mastery-extension", "--remediation", "--typicality-weight"]);
         if (options is null || options.Positional.Count == 0)
         {
             return Commands.Usage.Fail(error, "robustness needs at least one project folder", Usage);
@@ -70,6 +70,18 @@ internal static class RobustnessCommand
             }
 
             extension = parsed;
+        }
+
+        double? typicality = null;
+        if (options.Value("--typicality-weight") is { } tw)
+        {
+            if (!double.TryParse(tw, NumberStyles.Float, CultureInfo.InvariantCulture, out var parsed) || parsed is < 0 or > 10)
+            {
+                error.WriteLine("--typicality-weight must be a number between 0 and 10");
+                return ExitCodes.Usage;
+            }
+
+            typicality = parsed;
         }
 
         var remediation = options.Value("--remediation");
@@ -131,6 +143,7 @@ internal static class RobustnessCommand
                     MasteryStreak = streak ?? session.Gate.MasteryStreak,
                     MasteryExtension = extension ?? session.Gate.MasteryExtension,
                     Remediation = remediation ?? session.Gate.Remediation,
+                    TypicalityWeight = typicality ?? session.Gate.TypicalityWeight,
                 },
             };
             results[i] = Simulator.Run(p.Model, new SimulationOptions

@@ -145,6 +145,14 @@ public sealed record GateSettings
     /// cases is covered) or <c>policy</c> (the policy's own choice).
     /// </summary>
     public string Remediation { get; init; } = RemediationModes.Representative;
+    /// <summary>
+    /// The adaptive policy's preference for typical items: each positive gain is multiplied by the item's typicality
+    /// (the share of rules within target + delta/2 that label it right, see <c>ItemTypicality</c>) to this power, so
+    /// exceptions that only the target and a few close rules get right come later. 0 (the default) turns it off:
+    /// it helps learners unlike the model but lowers the release precision of those who learn as assumed
+    /// (docs/robustness.md).
+    /// </summary>
+    public double TypicalityWeight { get; init; }
 }
 
 public static class RemediationModes

@@ -140,6 +140,7 @@ public static class ProjectValidator
             Check("gate.masteryStreak", SettingRules.MasteryStreak(g.MasteryStreak));
             Check("gate.masteryExtension", SettingRules.MasteryExtension(g.MasteryExtension));
             Check("gate.remediation", SettingRules.Remediation(g.Remediation));
+            Check("gate.typicalityWeight", SettingRules.TypicalityWeight(g.TypicalityWeight));
 
             var t = g.Test;
             if (t is null)

@@ -60,8 +60,11 @@ internal static class ReferenceTeacher
         }
     }
 
-    /// <summary>The adaptive rule with blend weight <paramref name="blend"/>, by explicit sums per candidate.</summary>
-    public static int ChooseAdaptive(ModelVersion model, double[] belief, double[] learner, double q, double blend, bool[] shown)
+    /// <summary>
+    /// The adaptive rule with blend weight <paramref name="blend"/>, by explicit sums per candidate; a positive gain
+    /// is multiplied by the item's entry of <paramref name="itemWeights"/> when given.
+    /// </summary>
+    public static int ChooseAdaptive(ModelVersion model, double[] belief, double[] learner, double q, double blend, bool[] shown, double[]? itemWeights = null)
     {
         var err = model.Error;
         var best = -1;
@@ -91,6 +94,11 @@ internal static class ReferenceTeacher
 
             var expectedAfter = sumQlErr / sumQl;
             var gain = ((1 - q) * (wrongBeliefErr - (wrongBelief * expectedAfter))) + (blend * (1 - q) * greedy / sumQ);
+            if (itemWeights is not null && gain > 0)
+            {
+                gain *= itemWeights[x];
+            }
+
             if (gain > bestGain)
             {
                 bestGain = gain;

@@ -65,7 +65,7 @@ public sealed class SessionRun
             _strengths = new LearnerStrengthBeliefs(model, [.. GateDesign.BeliefStrengthRatios.Select(r => r * alpha)], _belief.Lapse);
         }
 
-        _policy = new TeachingPolicy(model, options.Policy, options.BlendWeight);
+        _policy = new TeachingPolicy(model, options.Policy, options.BlendWeight, ItemTypicality.Weights(model, gate.TargetError + (gate.Test.Delta / 2), gate.TypicalityWeight));
         _representative = new TeachingPolicy(model, PolicyNames.Random, options.BlendWeight);
         _random = new SeededRandom(options.Seed);
         _shown = new bool[model.TeachCount];

@@ -14,8 +14,17 @@ public sealed class TeachingPolicy
 {
     private readonly ModelVersion _model;
 
-    public TeachingPolicy(ModelVersion model, string policy, double blendWeight)
+    // Adaptive only: per teach item, a factor in [0, 1] on its positive gain (ItemTypicality.Weights); null = none.
+    private readonly double[]? _itemWeights;
+
+    public TeachingPolicy(ModelVersion model, string policy, double blendWeight, double[]? itemWeights = null)
     {
+        if (itemWeights is not null && itemWeights.Length != model.TeachCount)
+        {
+            throw new ArgumentException($"itemWeights has {itemWeights.Length} entries for {model.TeachCount} teach items.", nameof(itemWeights));
+        }
+
+        _itemWeights = itemWeights;
         if (!PolicyNames.All.Contains(policy))
         {
             throw new ArgumentException($"Unknown policy '{policy}'.", nameof(policy));
@@ -75,7 +84,8 @@ public sealed class TeachingPolicy
     /// <summary>
     /// Largest expected drop of predicted error, (1−q)·Σ_{h(x)≠y(x)} β(h)·(err(h) − E(A∪{x})), plus the blend
     /// weight times the normalised stochastic-greedy gain (1−q)·Σ_{h(x)≠y(x)} P(h|A)·err(h). One pass of four
-    /// masked sums per candidate over the mistake bits.
+    /// masked sums per candidate over the mistake bits. With item weights, a positive gain is multiplied by the item's
+    /// weight (typical items first); a gain of zero or less is left as it is, so a weight never makes an item look useful.
     /// </summary>
     private int Adaptive(Belief belief, ReadOnlySpan<bool> shown)
     {
@@ -140,6 +150,11 @@ public sealed class TeachingPolicy
                 var remaining = 1.0 - (oneMinusQ * learnerWrong);
                 var expectedAfter = remaining > 1e-12 ? (learnerErrorTotal - (oneMinusQ * learnerWrongError)) / remaining : 0.0;
                 var gain = oneMinusQ * (wrongError - (wrongMass * expectedAfter) + (BlendWeight * learnerWrongError));
+                if (_itemWeights is not null && gain > 0)
+                {
+                    gain *= _itemWeights[rows[k]];
+                }
+
                 if (gain > bestGain)
                 {
                     bestGain = gain;

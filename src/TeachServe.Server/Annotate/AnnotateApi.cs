@@ -67,12 +67,15 @@ public static class AnnotateApi
 
         // Which check this is and how far into it, so the page can announce every check and number its items from 1.
         // Not secret: the annotator has seen both; the counts of wrong answers stay on the owner's side.
-        int attempt = 1, attemptAnswered = 0;
-        if (current.Phase == Phases.Testing)
+        int attempt = 1, attemptAnswered = 0, maxTeaching = gate.MaxTeachingItems;
+        var refresher = session.Purpose == SessionPurposes.Refresher;
+        if (current.Phase == Phases.Testing || (refresher && session.IsActive))
         {
             if (!states.TryGet(sessionId, current.Step, out var run)) (_, run) = await loader.LoadAsync(db, session, ct);
             attempt = run.RetakesUsed + 1;
             attemptAnswered = run.AttemptTestAnswered;
+            // A refresher's own teaching budget, from the options it runs with.
+            maxTeaching = run.Options.Gate.MaxTeachingItems;
         }
 
         PageItem? item = null;
@@ -95,11 +98,13 @@ public static class AnnotateApi
             PredictedError = view.PredictedError,
             StartingError = version.Model.Summary.PriorExpectedError,
             TargetError = gate.TargetError,
-            MaxTeachingItems = gate.MaxTeachingItems,
+            MaxTeachingItems = maxTeaching,
             MaxTestItems = gate.Test.MaxItems,
             Item = item,
-            End = PageStates.End(view, completion),
+            // The owner's end wording is written for onboarding; a refresher ends with the page's own.
+            End = PageStates.End(view, refresher ? null : completion),
             HasGuidance = settings.Guidance is { IsEmpty: false },
+            Purpose = session.Purpose,
             ParentOrigins = options.Value.FrameAncestors,
         });
     }

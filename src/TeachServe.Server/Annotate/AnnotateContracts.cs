@@ -37,6 +37,8 @@ public sealed record AnnotatorPageState
     public EndView? End { get; init; }
     /// <summary>Whether the owner wrote instructions or label guidance (the page then fetches them once and shows them before teaching).</summary>
     public bool HasGuidance { get; init; }
+    /// <summary><c>onboarding</c>, or <c>refresher</c>: a short session for an annotator already released.</summary>
+    public string Purpose { get; init; } = Sessions.SessionPurposes.Onboarding;
     /// <summary>Parent origins the page may post its events to (the configured frame ancestors).</summary>
     public required IReadOnlyList<string> ParentOrigins { get; init; }
 }

@@ -36,6 +36,7 @@ public sealed class WireValues : IOpenApiSchemaTransformer
             [(typeof(HealthStatus), "status")] = HealthApi.Statuses,
             [(typeof(StartSessionRequest), "purpose")] = SessionPurposes.All,
             [(typeof(SessionView), "purpose")] = SessionPurposes.All,
+            [(typeof(AnnotatorPageState), "purpose")] = SessionPurposes.All,
         };
 
     /// <summary>

@@ -13,14 +13,14 @@ namespace TeachServe.Server.LiveQuality;
 /// Live checks of released annotators: storing the platform's outcomes (retry-safe, all or nothing per batch), the drift
 /// monitor of each annotator, and the owner's views. Problems are returned, not thrown.
 /// </summary>
-public sealed class LiveQualityOperations(TeachServeDb db, TimeProvider time, ModelVersionCache versions, LiveMonitors monitors, Refreshers refreshers)
+public sealed class LiveQualityOperations(
+    TeachServeDb db, TimeProvider time, ModelVersionCache versions, LiveMonitors monitors, Refreshers refreshers, LiveCheckWriter writer)
 {
-    private const int Attempts = 3;
-
     /// <summary>
-    /// Stores a batch in one transaction and applies each new outcome to its annotator's monitor, in order of answered
-    /// time then arrival. 422 with per-line errors when any outcome is invalid (nothing is stored); 409 when an outcome
-    /// id was stored before with a different body.
+    /// Validates a batch, then the live-check writer stores it all or nothing (in one transaction with the batches
+    /// waiting beside it, <see cref="StoreTogetherAsync"/>) and applies each new outcome to its annotator's monitor, in
+    /// order of answered time then arrival. 422 with per-line errors when any outcome is invalid (nothing is stored);
+    /// 409 when an outcome id was stored before with a different body.
     /// </summary>
     public async Task<Outcome<LiveChecksStored>> PostAsync(string projectId, LiveChecksRequest request, CancellationToken ct)
     {
@@ -33,22 +33,10 @@ public sealed class LiveQualityOperations(TeachServeDb db, TimeProvider time, Mo
         if (!checkedBatch.Succeeded) return checkedBatch.Problem;
         var batch = checkedBatch.Value;
 
-        // A concurrent batch may store one of these ids, or move a monitor, between our read and our commit: the unique
-        // index or the monitor's revision then refuses the commit, and the batch is checked again from the start.
-        for (var attempt = 1; ; attempt++)
-        {
-            try
-            {
-                return await StoreAsync(projectId, batch, ct);
-            }
-            catch (DbUpdateException) when (attempt < Attempts)
-            {
-                db.ChangeTracker.Clear();
-            }
-        }
+        return await writer.StoreAsync(new PendingLiveChecks { ProjectId = projectId, Lines = batch }, ct);
     }
 
-    private sealed record ValidLine(int Index, LiveCheckInput Input, DateTimeOffset AnsweredAt, string KnownLabel, Releases.Release Release);
+    internal sealed record ValidLine(int Index, LiveCheckInput Input, DateTimeOffset AnsweredAt, string KnownLabel, Releases.Release Release);
 
     private async Task<Outcome<List<ValidLine>>> ValidateAsync(string projectId, IReadOnlyList<LiveCheckInput> outcomes, CancellationToken ct)
     {
@@ -99,55 +87,129 @@ public sealed class LiveQualityOperations(TeachServeDb db, TimeProvider time, Mo
         return lines;
     }
 
-    private async Task<Outcome<LiveChecksStored>> StoreAsync(string projectId, List<ValidLine> batch, CancellationToken ct)
-    {
-        var ids = batch.Select(l => l.Input.OutcomeId).ToList();
-        var stored = await db.LiveChecks.AsNoTracking().Where(c => c.ProjectId == projectId && ids.Contains(c.OutcomeId))
-            .ToDictionaryAsync(c => c.OutcomeId, StringComparer.Ordinal, ct);
-        var conflicts = new List<LiveCheckError>();
-        var fresh = new List<ValidLine>();
-        foreach (var line in batch)
-        {
-            if (!stored.TryGetValue(line.Input.OutcomeId, out var earlier)) fresh.Add(line);
-            else if (earlier.WorkerRef != line.Input.WorkerRef || earlier.ItemId != line.Input.ItemId
-                     || earlier.Label != line.Input.Label || earlier.AnsweredAt != line.AnsweredAt)
-                conflicts.Add(new(line.Index, "outcomeId", "An outcome with this id was stored earlier with a different body."));
-        }
-        if (conflicts.Count > 0)
-            return Problems.Conflict("Some outcome ids were stored earlier with different bodies; outcomes cannot be changed, and nothing was stored.",
-                new Dictionary<string, object?> { ["errors"] = conflicts });
+    // ---- storing and applying: run by LiveCheckWriter, one transaction for a group of validated batches ----
 
+    /// <summary>
+    /// Stores a group of validated batches in one transaction, in queue order. A batch with an outcome id stored
+    /// earlier (or by an earlier batch of the group) under a different body gets 409 and stores nothing; the new
+    /// outcomes of the others are inserted, then applied to each annotator's monitor once for the whole group (in order
+    /// of answered time then arrival, as if the batches had come one after another). Each batch's answer lists the
+    /// statuses of the annotators it touched as of the commit. A concurrent node may store one of these ids, or move a
+    /// monitor, between our read and our commit: the unique index or the monitor's revision then refuses the commit,
+    /// and the writer stores each batch again on its own.
+    /// </summary>
+    internal async Task<IReadOnlyList<Outcome<LiveChecksStored>>> StoreTogetherAsync(IReadOnlyList<PendingLiveChecks> group, CancellationToken ct)
+    {
         var now = time.GetUtcNow();
         await using var tx = await db.Database.BeginTransactionAsync(ct);
-        var rows = fresh.Select(l => new LiveCheckRecord
-        {
-            ProjectId = projectId, OutcomeId = l.Input.OutcomeId, WorkerRef = l.Input.WorkerRef, ItemId = l.Input.ItemId,
-            Label = l.Input.Label, KnownLabel = l.KnownLabel, Wrong = l.Input.Label != l.KnownLabel,
-            AnsweredAt = l.AnsweredAt, ReceivedAt = now,
-        }).ToList();
-        db.LiveChecks.AddRange(rows);
-        await db.SaveChangesAsync(ct);
+        var stored = await StoredAsync(group, ct);
 
-        var statuses = new List<LiveAnnotatorStatus>();
-        foreach (var group in fresh.Zip(rows).GroupBy(p => p.First.Input.WorkerRef, StringComparer.Ordinal))
+        var results = new Outcome<LiveChecksStored>[group.Count];
+        var accepted = new List<(int Batch, List<(ValidLine Line, LiveCheckRecord Row)> Fresh)>();
+        for (var b = 0; b < group.Count; b++)
         {
-            var release = group.First().First.Release;
-            var monitor = await MonitorAsync(projectId, release, now, ct);
+            var projectId = group[b].ProjectId;
+            var conflicts = new List<LiveCheckError>();
+            var fresh = new List<ValidLine>();
+            foreach (var line in group[b].Lines)
+            {
+                if (!stored.TryGetValue((projectId, line.Input.OutcomeId), out var earlier)) fresh.Add(line);
+                else if (earlier.WorkerRef != line.Input.WorkerRef || earlier.ItemId != line.Input.ItemId
+                         || earlier.Label != line.Input.Label || earlier.AnsweredAt != line.AnsweredAt)
+                    conflicts.Add(new(line.Index, "outcomeId", "An outcome with this id was stored earlier with a different body."));
+            }
+            if (conflicts.Count > 0)
+            {
+                results[b] = Problems.Conflict("Some outcome ids were stored earlier with different bodies; outcomes cannot be changed, and nothing was stored.",
+                    new Dictionary<string, object?> { ["errors"] = conflicts });
+                continue;
+            }
+            var rows = fresh.Select(l => new LiveCheckRecord
+            {
+                ProjectId = projectId, OutcomeId = l.Input.OutcomeId, WorkerRef = l.Input.WorkerRef, ItemId = l.Input.ItemId,
+                Label = l.Input.Label, KnownLabel = l.KnownLabel, Wrong = l.Input.Label != l.KnownLabel,
+                AnsweredAt = l.AnsweredAt, ReceivedAt = now,
+            }).ToList();
+            foreach (var row in rows) stored[(projectId, row.OutcomeId)] = row;
+            accepted.Add((b, fresh.Zip(rows).ToList()));
+        }
+        // In queue order, so the ids (arrival order) follow the batches; the rows stay untracked.
+        using var statements = new LiveCheckStatements(db);
+        foreach (var (_, fresh) in accepted)
+            foreach (var (_, row) in fresh) await statements.InsertAsync(row, ct);
+
+        // Each annotator's monitor once for the group: their new outcomes of every batch together.
+        var applied = new Dictionary<(string, string), LiveAnnotatorStatus>();
+        var byWorker = accepted.SelectMany(a => a.Fresh.Select(f => (group[a.Batch].ProjectId, f.Line, f.Row)))
+            .GroupBy(f => (f.ProjectId, f.Line.Input.WorkerRef)).ToList();
+        var loaded = await LoadMonitorsAsync(byWorker.Select(g => g.Key).ToList(), ct);
+        foreach (var worker in byWorker)
+        {
+            var release = worker.Select(f => f.Line.Release).MaxBy(r => r.Id)!;
+            var monitor = await MonitorAsync(worker.Key.ProjectId, release, now, ct, loaded.GetValueOrDefault(worker.Key));
             // A refresher that ended before these outcomes arrived is applied first (it usually was, when it ended).
             await Refreshers.ApplyPendingAsync(db, monitor.Record, now, ct);
-            var record = await ApplyAsync(monitor, group.Select(p => p.Second).ToList(), now, ct);
-            statuses.Add(new LiveAnnotatorStatus(record.WorkerRef, record.Status, record.Checks));
+            var record = await ApplyAsync(monitor, worker.Select(f => f.Row).ToList(), now, ct);
+            applied[worker.Key] = new LiveAnnotatorStatus(record.WorkerRef, record.Status, record.Checks);
         }
+        await FlushMonitorsAsync(statements, ct);
         await db.SaveChangesAsync(ct);
         await tx.CommitAsync(ct);
-        return new LiveChecksStored(rows.Count, batch.Count - rows.Count, statuses);
+
+        foreach (var (b, fresh) in accepted)
+        {
+            var statuses = fresh.Select(f => f.Line.Input.WorkerRef).Distinct(StringComparer.Ordinal)
+                .Select(w => applied[(group[b].ProjectId, w)]).ToList();
+            results[b] = new LiveChecksStored(fresh.Count, group[b].Lines.Count - fresh.Count, statuses);
+        }
+        return results;
+    }
+
+    /// <summary>Writes the monitors the group started or moved through the prepared statements; SaveChanges then writes the events.</summary>
+    private async Task FlushMonitorsAsync(LiveCheckStatements statements, CancellationToken ct)
+    {
+        db.ChangeTracker.DetectChanges();
+        foreach (var entry in db.ChangeTracker.Entries<LiveMonitorRecord>().ToList())
+        {
+            if (entry.State == EntityState.Added) await statements.InsertAsync(entry.Entity, ct);
+            else if (entry.State == EntityState.Modified) await statements.UpdateAsync(entry.Entity, entry.Property(m => m.Revision).OriginalValue, ct);
+            else continue;
+            entry.State = EntityState.Unchanged;
+        }
+    }
+
+    /// <summary>The group's outcome ids stored before, by (project, outcome id): one query per project.</summary>
+    private async Task<Dictionary<(string, string), LiveCheckRecord>> StoredAsync(IReadOnlyList<PendingLiveChecks> group, CancellationToken ct)
+    {
+        var stored = new Dictionary<(string, string), LiveCheckRecord>();
+        foreach (var project in group.GroupBy(b => b.ProjectId, StringComparer.Ordinal))
+        {
+            var ids = project.SelectMany(b => b.Lines).Select(l => l.Input.OutcomeId).Distinct(StringComparer.Ordinal).ToList();
+            var rows = await db.LiveChecks.AsNoTracking().Where(c => c.ProjectId == project.Key && ids.Contains(c.OutcomeId)).ToListAsync(ct);
+            foreach (var row in rows) stored[(row.ProjectId, row.OutcomeId)] = row;
+        }
+        return stored;
+    }
+
+    /// <summary>The monitor rows of the group's annotators (tracked), by (project, worker ref): one query per project.</summary>
+    private async Task<Dictionary<(string, string), LiveMonitorRecord>> LoadMonitorsAsync(
+        IReadOnlyList<(string ProjectId, string WorkerRef)> workers, CancellationToken ct)
+    {
+        var loaded = new Dictionary<(string, string), LiveMonitorRecord>();
+        foreach (var project in workers.GroupBy(w => w.ProjectId, StringComparer.Ordinal))
+        {
+            var refs = project.Select(w => w.WorkerRef).ToList();
+            foreach (var m in await db.LiveMonitors.Where(m => m.ProjectId == project.Key && refs.Contains(m.WorkerRef)).ToListAsync(ct))
+                loaded[(m.ProjectId, m.WorkerRef)] = m;
+        }
+        return loaded;
     }
 
     /// <summary>The worker's monitor row; at their first live check, a new one in its start state.</summary>
     private async Task<(LiveMonitorRecord Record, LiveMonitor Monitor)> MonitorAsync(
-        string projectId, Releases.Release release, DateTimeOffset now, CancellationToken ct)
+        string projectId, Releases.Release release, DateTimeOffset now, CancellationToken ct, LiveMonitorRecord? loaded = null)
     {
-        var record = await db.LiveMonitors.FirstOrDefaultAsync(m => m.ProjectId == projectId && m.WorkerRef == release.WorkerRef, ct);
+        var record = loaded ?? await db.LiveMonitors.FirstOrDefaultAsync(m => m.ProjectId == projectId && m.WorkerRef == release.WorkerRef, ct);
         if (record is not null && record.SessionId == release.SessionId)
             return (record, monitors.For(await versions.GetAsync(projectId, record.ModelVersion, ct)));
 

@@ -41,6 +41,7 @@ public static class ConsoleEndpoints
         console.MapGet("/events.jsonl", ExportEvents);
         console.MapGet("/sessions.csv", ExportSessions);
         console.MapGet("/plots/{name}", Plot);
+        console.MapConsoleSessions();
         console.MapLiveConsole();
         return console;
     }
@@ -74,9 +75,10 @@ public static class ConsoleEndpoints
         if (project is null) return SignInPage(http, forms, StatusCodes.Status200OK);
         // ?page=N pages the session table (a missing or unreadable number is the first page, one too high the last).
         var page = int.TryParse(http.Request.Query["page"], NumberStyles.Integer, CultureInfo.InvariantCulture, out var p) ? p : 1;
-        var stats = await ConsoleStats.ComputeAsync(db, project.Id, ct, page, ProjectOperations.Settings(project).Cost);
+        var filter = await VersionFilter.ReadAsync(http, db, project.Id, ct);
+        var stats = await ConsoleStats.ComputeAsync(db, project.Id, ct, page, ProjectOperations.Settings(project).Cost, filter.Selected);
         var model = new OnboardingModel(project.Name, Token(http, forms), time.GetUtcNow(), stats,
-            ProjectOperations.Settings(project).Gate.TargetError);
+            ProjectOperations.Settings(project).Gate.TargetError, filter);
         return Render<OnboardingPage, OnboardingModel>(http, model, StatusCodes.Status200OK);
     }
 
@@ -85,14 +87,18 @@ public static class ConsoleEndpoints
         var project = await ConsoleAuth.CurrentAsync(http, db, ct);
         if (project is null) return Results.Unauthorized();
         if (!ConsolePlots.Names.Contains(name)) return Problems.NotFound($"No such plot; expected one of {string.Join(", ", ConsolePlots.Names)}.");
-        var stats = await ConsoleStats.ComputeAsync(db, project.Id, ct);
-        var target = ProjectOperations.Settings(project).Gate.TargetError;
+        var filter = await VersionFilter.ReadAsync(http, db, project.Id, ct);
+        var stats = await ConsoleStats.ComputeAsync(db, project.Id, ct, version: filter.Selected);
+        var targets = filter.Targets(stats.VersionsInPictures ?? [], ProjectOperations.Settings(project).Gate.TargetError);
+        var starting = filter.Selected is { } selected
+            ? filter.Choices.First(c => c.Number == selected).StartingError
+            : await versions.StartingErrorAsync(project.Id, ct);
         var plot = name switch
         {
-            "calibration.svg" => ConsolePlots.Calibration(stats.Calibration, target),
-            "learning-curve.svg" => ConsolePlots.LearningCurve(stats.LearningCurve,
-                await versions.StartingErrorAsync(project.Id, ct) ?? (stats.LearningCurve.Count > 0 ? stats.LearningCurve[0].MeanPredictedError : 1),
-                target),
+            "calibration.svg" => ConsoleVersionPlots.Calibration(stats.Calibration, targets),
+            "learning-curve.svg" => ConsoleVersionPlots.LearningCurve(stats.LearningCurve,
+                starting ?? (stats.LearningCurve.Count > 0 ? stats.LearningCurve[0].MeanPredictedError : 1),
+                targets),
             _ => ConsolePlots.ItemsToRelease(stats.ItemsToRelease),
         };
         http.Response.Headers.CacheControl = "no-store";

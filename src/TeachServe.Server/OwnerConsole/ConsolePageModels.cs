@@ -19,8 +19,9 @@ public sealed record FormProblems(string Form, string Heading, IReadOnlyList<Fie
 /// <summary>The sign-in page, with a refusal or a notice (a new owner key, shown once).</summary>
 public sealed record SignInModel(string FormToken, string? Error = null, string? Notice = null);
 
-/// <summary>The onboarding page: live figures, pictures and one page of the session table.</summary>
-public sealed record OnboardingModel(string ProjectName, string FormToken, DateTimeOffset AsOf, OnboardingStats Stats, double TargetError);
+/// <summary>The onboarding page: live figures, pictures and one page of the session table, of one model version or all.</summary>
+public sealed record OnboardingModel(
+    string ProjectName, string FormToken, DateTimeOffset AsOf, OnboardingStats Stats, double TargetError, VersionFilter? Filter = null);
 
 /// <summary>
 /// The project page: item counts, model versions, settings and keys, with the outcome of the form just sent (a message

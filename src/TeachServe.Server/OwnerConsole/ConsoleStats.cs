@@ -49,7 +49,8 @@ public sealed record OnboardingStats(
     int Page = 1,
     int TotalSessions = 0,
     IReadOnlyList<ItemStat>? Items = null,
-    double? CostPerRelease = null);
+    double? CostPerRelease = null,
+    IReadOnlyList<int>? VersionsInPictures = null);
 
 /// <summary>
 /// The live onboarding figures of one project. Counts cover every session; medians cover the most recent
@@ -65,11 +66,13 @@ public static class ConsoleStats
 
     /// <param name="page">Which page of the session table, newest first, <see cref="RecentRows"/> rows each (from 1).</param>
     /// <param name="cost">The project's cost settings; with them, the cost per release of the recent ended sessions.</param>
+    /// <param name="version">Only the sessions of this model version; null for all.</param>
     public static async Task<OnboardingStats> ComputeAsync(TeachServeDb db, string projectId, CancellationToken ct, int page = 1,
-        Core.Projects.CostSettings? cost = null)
+        Core.Projects.CostSettings? cost = null, int? version = null)
     {
         // Onboarding only: refreshers (released annotators' short sessions) are shown on the live-quality page.
         var sessions = db.Sessions.AsNoTracking().Where(s => s.ProjectId == projectId && s.Purpose == SessionPurposes.Onboarding);
+        if (version is { } v) sessions = sessions.Where(s => s.ModelVersion == v);
         var byPhase = (await sessions.GroupBy(s => s.Phase).Select(g => new { g.Key, Count = g.Count() }).ToListAsync(ct))
             .ToDictionary(g => g.Key, g => g.Count, StringComparer.Ordinal);
         var released = byPhase.GetValueOrDefault(Phases.Released);
@@ -114,7 +117,8 @@ public static class ConsoleStats
             interval,
             items.Count > 0 ? Median(items.Select(i => (double)i).ToList()) : null,
             minutes.Count > 0 ? TimeSpan.FromMinutes(Median(minutes)) : null,
-            items, calibration, curve, rows, recent.Count, page, total, itemStats, costPerRelease);
+            items, calibration, curve, rows, recent.Count, page, total, itemStats, costPerRelease,
+            recent.Select(s => s.ModelVersion).Distinct().Order().ToList());
     }
 
     /// <summary>Median of a sorted list; the mean of the middle two for an even count.</summary>

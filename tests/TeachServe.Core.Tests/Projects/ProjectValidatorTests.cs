@@ -174,6 +174,19 @@ public class ProjectValidatorTests
         Assert.Empty(ProjectValidator.Validate(s with { Gate = s.Gate with { MasteryStreak = 0, Remediation = RemediationModes.Policy } }, ProjectSamples.Items()));
     }
 
+    [Theory]
+    [InlineData(-0.5, true)]
+    [InlineData(10.5, true)]
+    [InlineData(double.NaN, true)]
+    [InlineData(0.0, false)]
+    [InlineData(2.0, false)]
+    public void The_typicality_weight_is_checked_by_field(double weight, bool refused)
+    {
+        var s = ProjectSamples.Settings();
+        var fields = ProjectValidator.Validate(s with { Gate = s.Gate with { TypicalityWeight = weight } }, ProjectSamples.Items()).Select(p => p.Field ?? "").ToArray();
+        Assert.Equal(refused ? ["gate.typicalityWeight"] : [], fields);
+    }
+
     [Fact]
     public void A_test_pool_smaller_than_one_attempt_is_refused_at_compile()
     {

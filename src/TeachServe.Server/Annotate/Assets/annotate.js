@@ -128,15 +128,17 @@ function announce(text) {
 function renderProgress() {
   const s = state;
   $("progress").hidden = false;
-  $("project-name").textContent = s.projectName;
+  const refresher = s.purpose === "refresher";
+  $("project-name").textContent = refresher ? `${s.projectName} · refresher` : s.projectName;
   let fraction;
   if (s.phase === "teaching") {
     // Plain progress: items done of the teaching budget. The model's predicted error is not shown here: it can move
     // against the annotator's own results (it may fall after a wrong answer), which reads as nonsense.
     $("progress-phase").textContent = `Teaching · item ${s.itemsTaught + 1} of at most ${s.maxTeachingItems}`;
     fraction = s.itemsTaught / Math.max(1, s.maxTeachingItems);
-    $("progress-detail").textContent =
-      "Practice with feedback. It ends as soon as your answers show you have the rule, then comes a short check without feedback.";
+    $("progress-detail").textContent = refresher
+      ? "A short refresher on the cases your recent work suggests you now find hard, with feedback; then a short check without feedback."
+      : "Practice with feedback. It ends as soon as your answers show you have the rule, then comes a short check without feedback.";
   } else if (s.phase === "testing") {
     $("progress-phase").textContent = `${checkName(s)} · item ${s.attemptAnswered + 1}`;
     fraction = s.attemptAnswered / Math.max(1, s.maxTestItems);
@@ -303,7 +305,9 @@ function renderEnd() {
   const end = s.end;
   renderProgress();
   const released = end.phase === "released";
-  $("end-heading").textContent = released ? "You are released for live work." : "Not released this time.";
+  $("end-heading").textContent = s.purpose === "refresher"
+    ? (released ? "Refresher passed: you are back to live work." : "Refresher not passed this time.")
+    : (released ? "You are released for live work." : "Not released this time.");
   $("view-end").dataset.phase = end.phase;
   $("end-summary").textContent =
     `You answered ${end.itemsTaught} teaching items and ${end.testAnswered} check items.`;

@@ -1,0 +1,152 @@
+using System.Threading.Channels;
+using Microsoft.EntityFrameworkCore;
+using TeachServe.Server.Infrastructure;
+
+namespace TeachServe.Server.LiveQuality;
+
+/// <summary>One validated batch of live-check outcomes waiting for the writer, and how it ended.</summary>
+internal sealed class PendingLiveChecks
+{
+    public required string ProjectId { get; init; }
+    public required IReadOnlyList<LiveQualityOperations.ValidLine> Lines { get; init; }
+    internal TaskCompletionSource<Outcome<LiveChecksStored>> Done { get; } = new(TaskCreationOptions.RunContinuationsAsynchronously);
+}
+
+/// <summary>
+/// The single writer of live-check outcomes on this node, with group commit. Batches were stored each in a transaction
+/// of their own, and with 64 senders on SQLite most of a request's time went to waiting for the write lock (SQLite's busy
+/// handler sleeps between tries, so the lock was idle while the waiters slept) and to one sync per batch. Here requests
+/// validate concurrently, then put their batch on a channel and wait; one loop on a thread of its own takes every batch
+/// that is waiting and stores them in one transaction (<see cref="LiveQualityOperations.StoreTogetherAsync"/>), in order,
+/// each with its own 409 or result, and completes each request only after the commit. When a transaction fails (another
+/// node stored an id or moved a monitor meanwhile, or the database failed), each batch of it is stored again in a
+/// transaction of its own, so one cannot fail the others and each stays all or nothing.
+/// </summary>
+public sealed partial class LiveCheckWriter(IServiceScopeFactory scopes, ILogger<LiveCheckWriter> logger) : IHostedService, IDisposable
+{
+    /// <summary>Batches per transaction, and outcomes: a few large batches fill a transaction as many small ones do.</summary>
+    public const int MaxBatches = 256;
+    public const int MaxOutcomes = 5_000;
+    /// <summary>Tries of one batch alone after its group failed (a concurrent node's id or monitor change is read again).</summary>
+    private const int Attempts = 3;
+
+    private readonly Channel<PendingLiveChecks> _queue = Channel.CreateBounded<PendingLiveChecks>(
+        new BoundedChannelOptions(4 * MaxBatches) { SingleReader = true, FullMode = BoundedChannelFullMode.Wait });
+    private readonly CancellationTokenSource _stopping = new();
+    private Thread? _thread;
+    private int _disposed;
+
+    /// <summary>Queues the batch and completes after its commit (or its 409).</summary>
+    internal async Task<Outcome<LiveChecksStored>> StoreAsync(PendingLiveChecks batch, CancellationToken ct)
+    {
+        await _queue.Writer.WriteAsync(batch, ct);
+        // Once queued the batch is not abandoned with the request: the caller learns how it ended.
+        return await batch.Done.Task;
+    }
+
+    public Task StartAsync(CancellationToken cancellationToken)
+    {
+        _thread = new Thread(Run) { IsBackground = true, Name = "TeachServe live-check writer" };
+        _thread.Start();
+        return Task.CompletedTask;
+    }
+
+    public Task StopAsync(CancellationToken cancellationToken)
+    {
+        _queue.Writer.TryComplete();
+        return Task.Run(() => _thread?.Join(), cancellationToken);
+    }
+
+    public void Dispose()
+    {
+        if (Interlocked.Exchange(ref _disposed, 1) != 0) return;
+        _stopping.Cancel();
+        _stopping.Dispose();
+    }
+
+    private void Run()
+    {
+        var group = new List<PendingLiveChecks>(MaxBatches);
+        try
+        {
+            // A thread of its own: a group never waits in the thread pool's queue behind request work.
+            while (_queue.Reader.WaitToReadAsync(_stopping.Token).AsTask().GetAwaiter().GetResult())
+            {
+                group.Clear();
+                var outcomes = 0;
+                while (group.Count < MaxBatches && outcomes < MaxOutcomes && _queue.Reader.TryRead(out var next))
+                {
+                    group.Add(next);
+                    outcomes += next.Lines.Count;
+                }
+                var started = System.Diagnostics.Stopwatch.GetTimestamp();
+                WriteGroup(group);
+                if (logger.IsEnabled(LogLevel.Debug))
+                {
+                    var elapsed = System.Diagnostics.Stopwatch.GetElapsedTime(started);
+                    LogGroup(logger, group.Count, outcomes, elapsed.TotalMilliseconds);
+                }
+            }
+        }
+        catch (OperationCanceledException)
+        {
+        }
+        finally
+        {
+            _queue.Writer.TryComplete();
+            while (_queue.Reader.TryRead(out var left))
+                left.Done.TrySetException(new OperationCanceledException("The server is stopping."));
+        }
+    }
+
+    private void WriteGroup(List<PendingLiveChecks> group)
+    {
+        IReadOnlyList<Outcome<LiveChecksStored>> results;
+        try
+        {
+            results = StoreTogether(group);
+        }
+        catch (Exception e)
+        {
+            if (group.Count > 1) LogGroupFailed(logger, group.Count, e);
+            foreach (var one in group) WriteAlone(one);
+            return;
+        }
+        for (var i = 0; i < group.Count; i++) group[i].Done.TrySetResult(results[i]);
+    }
+
+    private void WriteAlone(PendingLiveChecks one)
+    {
+        for (var attempt = 1; ; attempt++)
+        {
+            try
+            {
+                one.Done.TrySetResult(StoreTogether([one])[0]);
+                return;
+            }
+            catch (DbUpdateException) when (attempt < Attempts)
+            {
+            }
+            catch (Exception e)
+            {
+                one.Done.TrySetException(e);
+                return;
+            }
+        }
+    }
+
+    /// <summary>A fresh scope (and context) per transaction: nothing tracked survives a failed one.</summary>
+    private IReadOnlyList<Outcome<LiveChecksStored>> StoreTogether(IReadOnlyList<PendingLiveChecks> group)
+    {
+        using var scope = scopes.CreateScope();
+        var operations = scope.ServiceProvider.GetRequiredService<LiveQualityOperations>();
+        return operations.StoreTogetherAsync(group, _stopping.Token).GetAwaiter().GetResult();
+    }
+
+    /// <summary>Timing log for profiling: <c>Logging__LogLevel__TeachServe.Server.LiveQuality.LiveCheckWriter=Debug</c>.</summary>
+    [LoggerMessage(Level = LogLevel.Debug, Message = "Stored a group of {Count} batches ({Outcomes} outcomes) in {Milliseconds:0.0} ms")]
+    private static partial void LogGroup(ILogger logger, int count, int outcomes, double milliseconds);
+
+    [LoggerMessage(Level = LogLevel.Warning, Message = "A group of {Count} live-check batches failed; storing them one by one")]
+    private static partial void LogGroupFailed(ILogger logger, int count, Exception exception);
+}
