@@ -459,7 +459,7 @@ public sealed class LiveQualityOperations(
         return new LiveAnnotatorHistory(View(record), outcomes);
     }
 
-    private static LiveAnnotatorView View(LiveMonitorRecord m)
+    internal static LiveAnnotatorView View(LiveMonitorRecord m)
     {
         Interval? interval = m.Checks > 0 ? ProportionIntervals.Wilson(m.Errors, m.Checks) : null;
         return new LiveAnnotatorView(

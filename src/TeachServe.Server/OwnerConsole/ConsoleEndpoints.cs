@@ -42,6 +42,7 @@ public static class ConsoleEndpoints
         console.MapGet("/sessions.csv", ExportSessions);
         console.MapGet("/plots/{name}", Plot);
         console.MapConsoleSessions();
+        console.MapLiveConsole();
         return console;
     }
 

@@ -1,0 +1,118 @@
+using System.Text.Json.Nodes;
+using Microsoft.EntityFrameworkCore;
+using TeachServe.Core.LiveQuality;
+using TeachServe.Core.Statistics;
+using TeachServe.Server.Events;
+using TeachServe.Server.Infrastructure;
+using TeachServe.Server.LiveQuality;
+using TeachServe.Server.Persistence;
+using TeachServe.Server.Versions;
+
+namespace TeachServe.Server.OwnerConsole;
+
+/// <summary>
+/// What the console's live-quality pages read: a page of the monitored annotators with counts per status, and one
+/// annotator's checks replayed through their monitor (to place the alarms), status changes and outcomes. Read only;
+/// refreshers that ended are taken in first, as the API's views do.
+/// </summary>
+public static class LiveConsoleReads
+{
+    public const int Rows = 25;
+    public const int OutcomeRows = 50;
+
+    /// <summary>The window of the moving live error: the last 20 checks, the fixed-window rule of common practice.</summary>
+    public const int Window = 20;
+
+    /// <summary>The statuses, the most urgent first: the table's order and the filter's.</summary>
+    public static readonly IReadOnlyList<string> Statuses =
+        [LiveStatusNames.Paused, LiveStatusNames.RefresherDue, LiveStatusNames.Watch, LiveStatusNames.Reliable];
+
+    /// <param name="status">One of <see cref="Statuses"/>, or null (or anything else) for all.</param>
+    /// <param name="page">From 1; out of range is clamped, as the session table's is.</param>
+    public static async Task<LiveQualityTable> TableAsync(TeachServeDb db, Refreshers refreshers, string projectId, string? status, int page, CancellationToken ct)
+    {
+        await refreshers.ApplyEndedAsync(projectId, ct);
+        var monitors = db.LiveMonitors.AsNoTracking().Where(m => m.ProjectId == projectId);
+        var counts = await monitors.GroupBy(m => m.Status).Select(g => new { g.Key, Count = g.Count() }).ToListAsync(ct);
+        var byStatus = Statuses.ToDictionary(s => s, s => counts.FirstOrDefault(c => c.Key == s)?.Count ?? 0, StringComparer.Ordinal);
+        if (status is not null && !byStatus.ContainsKey(status)) status = null;
+        var matching = status is null ? byStatus.Values.Sum() : byStatus[status];
+        page = Math.Clamp(page, 1, Math.Max(1, (matching + Rows - 1) / Rows));
+
+        var rows = await (status is null ? monitors : monitors.Where(m => m.Status == status))
+            .OrderBy(m => m.Status == LiveStatusNames.Paused ? 0 : m.Status == LiveStatusNames.RefresherDue ? 1 : m.Status == LiveStatusNames.Watch ? 2 : 3)
+            .ThenBy(m => m.WorkerRef)
+            .Skip((page - 1) * Rows).Take(Rows).ToListAsync(ct);
+        return new LiveQualityTable(byStatus, status, page, matching, rows.Select(LiveQualityOperations.View).ToList());
+    }
+
+    /// <summary>One annotator's live view; 404 when they have no live checks.</summary>
+    public static async Task<Outcome<LiveAnnotatorDetail>> DetailAsync(
+        TeachServeDb db, LiveQualityOperations live, ModelVersionCache versions, LiveMonitors monitors,
+        string projectId, string workerRef, int outcomePage, CancellationToken ct)
+    {
+        var history = await live.HistoryAsync(projectId, workerRef, ct);
+        if (!history.Succeeded) return history.Problem;
+        var record = await db.LiveMonitors.AsNoTracking().FirstAsync(m => m.ProjectId == projectId && m.WorkerRef == workerRef, ct);
+        var monitor = monitors.For(await versions.GetAsync(projectId, record.ModelVersion, ct));
+
+        var checks = await db.LiveChecks.AsNoTracking()
+            .Where(c => c.ProjectId == projectId && c.WorkerRef == workerRef && c.ReceivedAt >= record.StartedAt)
+            .OrderBy(c => c.AnsweredAt).ThenBy(c => c.Id)
+            .Select(c => new LiveOutcomeView(c.OutcomeId, c.ItemId, c.Label, c.KnownLabel, c.Wrong, c.AnsweredAt, c.ReceivedAt))
+            .ToListAsync(ct);
+        var points = Replay(monitor, checks, await Refreshers.AppliedSinceAsync(db, record, ct));
+
+        var pages = Math.Max(1, (checks.Count + OutcomeRows - 1) / OutcomeRows);
+        outcomePage = Math.Clamp(outcomePage, 1, pages);
+        var outcomes = Enumerable.Reverse(checks).Skip((outcomePage - 1) * OutcomeRows).Take(OutcomeRows).ToList();
+
+        var events = await db.Events.AsNoTracking()
+            .Where(e => e.ProjectId == projectId && e.WorkerRef == workerRef && e.Type == EventTypes.LiveStatusChanged && e.At >= record.StartedAt)
+            .OrderBy(e => e.Id).Select(e => new { e.At, e.DataJson }).ToListAsync(ct);
+        var changes = events.Select(e => Change(e.At, e.DataJson)).ToList();
+
+        var design = monitor.Settings.Cusum;
+        return new LiveAnnotatorDetail(history.Value.Annotator, design.TargetError, design.DriftError, points, changes, outcomes, outcomePage);
+    }
+
+    /// <summary>
+    /// The checks through the annotator's monitor from its start state, with the refreshers it took in at the times they
+    /// ended: the same order and steps as the monitor's own rebuild, so the alarms fall on the checks that raised them.
+    /// </summary>
+    public static List<LivePoint> Replay(LiveMonitor monitor, IReadOnlyList<LiveOutcomeView> checks, IReadOnlyList<EndedRefresher> refreshers)
+    {
+        var state = monitor.Start();
+        var pending = new Queue<EndedRefresher>(refreshers);
+        var points = new List<LivePoint>(checks.Count);
+        var errors = 0;
+        var inWindow = 0;
+        for (var i = 0; i < checks.Count; i++)
+        {
+            var check = checks[i];
+            while (pending.TryPeek(out var refresher) && refresher.EndedAt <= check.AnsweredAt)
+                state = LiveMonitor.AfterRefresher(state, pending.Dequeue().Outcome);
+            var step = monitor.Apply(state, new LiveCheck(null, check.Wrong ? 1 : 0, 0));
+            state = step.State;
+            if (check.Wrong) errors++;
+            if (check.Wrong) inWindow++;
+            if (i >= Window && checks[i - Window].Wrong) inWindow--;
+            var n = Math.Min(i + 1, Window);
+            var interval = ProportionIntervals.Wilson(inWindow, n);
+            points.Add(new LivePoint(i + 1, check.OutcomeId, check.AnsweredAt, check.Wrong, errors / (double)(i + 1),
+                inWindow / (double)n, interval.Low, interval.High, step.Alarms != LiveAlarms.None));
+        }
+        return points;
+    }
+
+    private static LiveStatusChange Change(DateTimeOffset at, string dataJson)
+    {
+        var data = JsonNode.Parse(dataJson) as JsonObject ?? [];
+        string? Text(string name) => data[name] is JsonValue v && v.TryGetValue<string>(out var s) ? s : null;
+        int? Number(string name) => data[name] is JsonValue v && v.TryGetValue<int>(out var n) ? n : null;
+        DateTimeOffset? Time(string name) => data[name] is JsonValue v && v.TryGetValue<DateTimeOffset>(out var t) ? t : null;
+        var alarm = data["alarm"] is JsonValue a && a.TryGetValue<bool>(out var b) && b;
+        return new LiveStatusChange(at, Text("from") ?? "", Text("to") ?? "", Text("outcomeId"), Time("answeredAt"), Number("checks"), Number("errors"),
+            alarm, Text("refresherSessionId"));
+    }
+}
