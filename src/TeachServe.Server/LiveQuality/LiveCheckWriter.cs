@@ -1,11 +1,10 @@
-using System.Threading.Channels;
 using Microsoft.EntityFrameworkCore;
 using TeachServe.Server.Infrastructure;
 
 namespace TeachServe.Server.LiveQuality;
 
 /// <summary>One validated batch of live-check outcomes waiting for the writer, and how it ended.</summary>
-internal sealed class PendingLiveChecks
+public sealed class PendingLiveChecks
 {
     public required string ProjectId { get; init; }
     public required IReadOnlyList<LiveQualityOperations.ValidLine> Lines { get; init; }
@@ -22,7 +21,8 @@ internal sealed class PendingLiveChecks
 /// node stored an id or moved a monitor meanwhile, or the database failed), each batch of it is stored again in a
 /// transaction of its own, so one cannot fail the others and each stays all or nothing.
 /// </summary>
-public sealed partial class LiveCheckWriter(IServiceScopeFactory scopes, ILogger<LiveCheckWriter> logger) : IHostedService, IDisposable
+public sealed partial class LiveCheckWriter(IServiceScopeFactory scopes, ILogger<LiveCheckWriter> logger)
+    : SingleWriter<PendingLiveChecks>("TeachServe live-check writer", MaxBatches, 4 * MaxBatches)
 {
     /// <summary>Batches per transaction, and outcomes: a few large batches fill a transaction as many small ones do.</summary>
     public const int MaxBatches = 256;
@@ -30,76 +30,31 @@ public sealed partial class LiveCheckWriter(IServiceScopeFactory scopes, ILogger
     /// <summary>Tries of one batch alone after its group failed (a concurrent node's id or monitor change is read again).</summary>
     private const int Attempts = 3;
 
-    private readonly Channel<PendingLiveChecks> _queue = Channel.CreateBounded<PendingLiveChecks>(
-        new BoundedChannelOptions(4 * MaxBatches) { SingleReader = true, FullMode = BoundedChannelFullMode.Wait });
-    private readonly CancellationTokenSource _stopping = new();
-    private Thread? _thread;
-    private int _disposed;
-
     /// <summary>Queues the batch and completes after its commit (or its 409).</summary>
     internal async Task<Outcome<LiveChecksStored>> StoreAsync(PendingLiveChecks batch, CancellationToken ct)
     {
-        await _queue.Writer.WriteAsync(batch, ct);
+        await EnqueueAsync(batch, ct);
         // Once queued the batch is not abandoned with the request: the caller learns how it ended.
         return await batch.Done.Task;
     }
 
-    public Task StartAsync(CancellationToken cancellationToken)
-    {
-        _thread = new Thread(Run) { IsBackground = true, Name = "TeachServe live-check writer" };
-        _thread.Start();
-        return Task.CompletedTask;
-    }
+    protected override bool Fits(List<PendingLiveChecks> group, PendingLiveChecks candidate) => group.Sum(b => b.Lines.Count) < MaxOutcomes;
 
-    public Task StopAsync(CancellationToken cancellationToken)
-    {
-        _queue.Writer.TryComplete();
-        return Task.Run(() => _thread?.Join(), cancellationToken);
-    }
+    protected override void Abandon(PendingLiveChecks work, Exception reason) => work.Done.TrySetException(reason);
 
-    public void Dispose()
+    protected override void WriteGroup(List<PendingLiveChecks> group)
     {
-        if (Interlocked.Exchange(ref _disposed, 1) != 0) return;
-        _stopping.Cancel();
-        _stopping.Dispose();
-    }
-
-    private void Run()
-    {
-        var group = new List<PendingLiveChecks>(MaxBatches);
-        try
+        var started = System.Diagnostics.Stopwatch.GetTimestamp();
+        WriteTogether(group);
+        if (logger.IsEnabled(LogLevel.Debug))
         {
-            // A thread of its own: a group never waits in the thread pool's queue behind request work.
-            while (_queue.Reader.WaitToReadAsync(_stopping.Token).AsTask().GetAwaiter().GetResult())
-            {
-                group.Clear();
-                var outcomes = 0;
-                while (group.Count < MaxBatches && outcomes < MaxOutcomes && _queue.Reader.TryRead(out var next))
-                {
-                    group.Add(next);
-                    outcomes += next.Lines.Count;
-                }
-                var started = System.Diagnostics.Stopwatch.GetTimestamp();
-                WriteGroup(group);
-                if (logger.IsEnabled(LogLevel.Debug))
-                {
-                    var elapsed = System.Diagnostics.Stopwatch.GetElapsedTime(started);
-                    LogGroup(logger, group.Count, outcomes, elapsed.TotalMilliseconds);
-                }
-            }
-        }
-        catch (OperationCanceledException)
-        {
-        }
-        finally
-        {
-            _queue.Writer.TryComplete();
-            while (_queue.Reader.TryRead(out var left))
-                left.Done.TrySetException(new OperationCanceledException("The server is stopping."));
+            var elapsed = System.Diagnostics.Stopwatch.GetElapsedTime(started);
+            var outcomes = group.Sum(b => b.Lines.Count);
+            LogGroup(logger, group.Count, outcomes, elapsed.TotalMilliseconds);
         }
     }
 
-    private void WriteGroup(List<PendingLiveChecks> group)
+    private void WriteTogether(List<PendingLiveChecks> group)
     {
         IReadOnlyList<Outcome<LiveChecksStored>> results;
         try
@@ -140,7 +95,7 @@ public sealed partial class LiveCheckWriter(IServiceScopeFactory scopes, ILogger
     {
         using var scope = scopes.CreateScope();
         var operations = scope.ServiceProvider.GetRequiredService<LiveQualityOperations>();
-        return operations.StoreTogetherAsync(group, _stopping.Token).GetAwaiter().GetResult();
+        return operations.StoreTogetherAsync(group, Stopping.Token).GetAwaiter().GetResult();
     }
 
     /// <summary>Timing log for profiling: <c>Logging__LogLevel__TeachServe.Server.LiveQuality.LiveCheckWriter=Debug</c>.</summary>

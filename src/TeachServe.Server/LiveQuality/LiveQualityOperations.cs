@@ -43,7 +43,7 @@ public sealed class LiveQualityOperations(
     }
 
     /// <param name="Inline">The item the outcome carries inline, to store in pool <c>live</c> unless already stored.</param>
-    internal sealed record ValidLine(int Index, LiveCheckInput Input, DateTimeOffset AnsweredAt, string KnownLabel, Releases.Release Release,
+    public sealed record ValidLine(int Index, LiveCheckInput Input, DateTimeOffset AnsweredAt, string KnownLabel, Releases.Release Release,
         ItemDefinition? Inline = null);
 
     private async Task<Outcome<List<ValidLine>>> ValidateAsync(string projectId, IReadOnlyList<LiveCheckInput> outcomes, CancellationToken ct)

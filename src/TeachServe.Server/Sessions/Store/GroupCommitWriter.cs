@@ -1,6 +1,6 @@
 using System.Data.Common;
 using System.Linq.Expressions;
-using System.Threading.Channels;
+using TeachServe.Server.Infrastructure;
 using Microsoft.EntityFrameworkCore;
 using Microsoft.EntityFrameworkCore.Infrastructure;
 using Microsoft.EntityFrameworkCore.Metadata;
@@ -60,81 +60,40 @@ public sealed class PendingRows : PendingWrite;
 /// session for a worker, or the database going away), its writes are retried one transaction each, so one cannot
 /// fail the others. The SQL comes from <see cref="PreparedWrites"/>: prepared once, provider-neutral.
 /// </para>
+/// <para>
+/// It is registered before the start-up tasks, so the demo project's session can be written while the host is still
+/// starting; the thread touches the database only when writes arrive. The queue, thread and stop are
+/// <see cref="SingleWriter{TWork}"/>'s, shared with the live-check writer.
+/// </para>
 /// </summary>
-public sealed partial class GroupCommitWriter(IServiceScopeFactory scopes, ILogger<GroupCommitWriter> logger) : IHostedService, IDisposable
+public sealed partial class GroupCommitWriter(IServiceScopeFactory scopes, ILogger<GroupCommitWriter> logger)
+    : SingleWriter<PendingWrite>("TeachServe writer", MaxBatch, 8 * MaxBatch)
 {
     public const int MaxBatch = 256;
-    private readonly Channel<PendingWrite> _queue = Channel.CreateBounded<PendingWrite>(
-        new BoundedChannelOptions(8 * MaxBatch) { SingleReader = true, FullMode = BoundedChannelFullMode.Wait });
-    private readonly CancellationTokenSource _stopping = new();
-    private Thread? _thread;
-    private int _disposed;
     private PreparedWrites? _statements;
 
     /// <summary>Queues the write and completes after its commit: true if written, false if its step was taken.</summary>
     public async Task<bool> CommitAsync(PendingWrite write, CancellationToken ct)
     {
-        await _queue.Writer.WriteAsync(write, ct);
+        await EnqueueAsync(write, ct);
         // Once queued the write is not abandoned with the request: the caller learns how it ended.
         return await write.Done.Task;
     }
 
-    /// <summary>
-    /// Starts the writer thread. Registered before the start-up tasks, so the demo project's session can be
-    /// written while the host is still starting; the thread touches the database only when writes arrive.
-    /// </summary>
-    public Task StartAsync(CancellationToken cancellationToken)
+    protected override void WriteGroup(List<PendingWrite> group)
     {
-        _thread = new Thread(Run) { IsBackground = true, Name = "TeachServe writer" };
-        _thread.Start();
-        return Task.CompletedTask;
-    }
-
-    public Task StopAsync(CancellationToken cancellationToken)
-    {
-        _queue.Writer.TryComplete();
-        // The writes already queued are committed before the thread ends (bounded by the host's stop timeout).
-        return Task.Run(() => _thread?.Join(), cancellationToken);
-    }
-
-    /// <summary>Stops a writer still waiting for work (it is registered twice, as itself and as a hosted service).</summary>
-    public void Dispose()
-    {
-        if (Interlocked.Exchange(ref _disposed, 1) != 0) return;
-        _stopping.Cancel();
-        _stopping.Dispose();
-    }
-
-    private void Run()
-    {
-        var batch = new List<PendingWrite>(MaxBatch);
-        try
+        var started = System.Diagnostics.Stopwatch.GetTimestamp();
+        WriteBatch(group);
+        if (logger.IsEnabled(LogLevel.Debug))
         {
-            // A thread of its own: a batch never waits in the thread pool's queue behind request work.
-            while (_queue.Reader.WaitToReadAsync(_stopping.Token).AsTask().GetAwaiter().GetResult())
-            {
-                batch.Clear();
-                while (batch.Count < MaxBatch && _queue.Reader.TryRead(out var next)) batch.Add(next);
-                var started = System.Diagnostics.Stopwatch.GetTimestamp();
-                WriteBatch(batch);
-                if (logger.IsEnabled(LogLevel.Debug))
-                {
-                    var elapsed = System.Diagnostics.Stopwatch.GetElapsedTime(started);
-                    LogBatch(logger, batch.Count, elapsed.TotalMilliseconds);
-                }
-            }
-        }
-        catch (OperationCanceledException)
-        {
-        }
-        finally
-        {
-            Reset();
-            _queue.Writer.TryComplete();
-            while (_queue.Reader.TryRead(out var left))
-                left.Done.TrySetException(new OperationCanceledException("The server is stopping."));
+            var elapsed = System.Diagnostics.Stopwatch.GetElapsedTime(started);
+            LogBatch(logger, group.Count, elapsed.TotalMilliseconds);
         }
     }
+
+    protected override void Abandon(PendingWrite work, Exception reason) => work.Done.TrySetException(reason);
+
+    protected override void OnStopped() => Reset();
 
     private void WriteBatch(List<PendingWrite> batch)
     {
