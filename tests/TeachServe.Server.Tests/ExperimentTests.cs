@@ -166,7 +166,7 @@ public sealed class ExperimentTests
             arms = new object[]
             {
                 new { name = "a", policy = "random", gate = new { maxTeachingItems = 4 } },
-                new { name = "b", policy = "random", gate = new { maxTeachingItems = 4 } },
+                new { name = "b", policy = "adaptive", gate = new { maxTeachingItems = 4, typicalityWeight = 2.0 } },
             },
         });
         var s = await app.StartSessionAsync(keys, "replayer");
@@ -194,7 +194,7 @@ public sealed class ExperimentTests
         var problem = await Api.ProblemAsync(await owner.PostAsJsonAsync($"/api/v1/projects/{keys.ProjectId}/experiments", new
         {
             name = "bad",
-            arms = new object[] { new { name = "a", policy = "nope" }, new { name = "a", policy = "random", learnerAlpha = -1 } },
+            arms = new object[] { new { name = "a", policy = "nope" }, new { name = "a", policy = "random", learnerAlpha = -1, gate = new { typicalityWeight = 11 } } },
             weights = new[] { 1.0 },
             minimumDetectableEffect = 2.0,
         }), 422);
@@ -202,6 +202,7 @@ public sealed class ExperimentTests
         Assert.Contains("arms[0].policy", fields);
         Assert.Contains("arms[1].name", fields);
         Assert.Contains("arms[1].learnerAlpha", fields);
+        Assert.Contains("arms[1].gate.typicalityWeight", fields);
         Assert.Contains("weights", fields);
         Assert.Contains("minimumDetectableEffect", fields);
     }

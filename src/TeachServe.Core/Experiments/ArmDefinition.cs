@@ -46,6 +46,8 @@ public sealed record GateOverride
     public int? MasteryStreak { get; init; }
     public int? MasteryExtension { get; init; }
     public string? Remediation { get; init; }
+    /// <summary>Arms may compare typical items first (<see cref="GateSettings.TypicalityWeight"/>) with the project's value on its own annotators.</summary>
+    public double? TypicalityWeight { get; init; }
 
     public GateSettings ApplyTo(GateSettings gate)
     {
@@ -60,6 +62,7 @@ public sealed record GateOverride
             MasteryStreak = MasteryStreak ?? gate.MasteryStreak,
             MasteryExtension = MasteryExtension ?? gate.MasteryExtension,
             Remediation = Remediation ?? gate.Remediation,
+            TypicalityWeight = TypicalityWeight ?? gate.TypicalityWeight,
         };
     }
 }

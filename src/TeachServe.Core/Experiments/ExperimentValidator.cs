@@ -128,6 +128,8 @@ public static class ExperimentValidator
             check(FieldPath.Member(path, "masteryExtension"), SettingRules.MasteryExtension(extension));
         if (gate.Remediation is { } remediation)
             check(FieldPath.Member(path, "remediation"), SettingRules.Remediation(remediation));
+        if (gate.TypicalityWeight is { } typicality)
+            check(FieldPath.Member(path, "typicalityWeight"), SettingRules.TypicalityWeight(typicality));
 
         var test = gate.Test;
         var testPath = FieldPath.Member(path, "test");

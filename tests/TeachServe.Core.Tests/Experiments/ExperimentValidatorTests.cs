@@ -140,6 +140,9 @@ public class ExperimentValidatorTests
     [InlineData("gate.confidence", 1)]
     [InlineData("gate.maxTeachingItems", 0)]
     [InlineData("gate.retakes", -1)]
+    [InlineData("gate.typicalityWeight", -0.5)]
+    [InlineData("gate.typicalityWeight", 10.5)]
+    [InlineData("gate.typicalityWeight", double.NaN)]
     [InlineData("gate.test.maxItems", 0)]
     [InlineData("gate.test.delta", 0)]
     [InlineData("gate.test.alpha", 0)]
@@ -158,6 +161,8 @@ public class ExperimentValidatorTests
     [InlineData("gate.confidence", 0.999)]
     [InlineData("gate.maxTeachingItems", 1)]
     [InlineData("gate.retakes", 0)]
+    [InlineData("gate.typicalityWeight", 0)]
+    [InlineData("gate.typicalityWeight", 10)]
     [InlineData("gate.test.maxItems", 1)]
     [InlineData("gate.test.delta", 0.3)]
     [InlineData("gate.test.alpha", 0.499)]
@@ -235,6 +240,7 @@ public class ExperimentValidatorTests
             "gate.confidence" => arm with { Gate = new GateOverride { Confidence = value } },
             "gate.maxTeachingItems" => arm with { Gate = new GateOverride { MaxTeachingItems = (int)value } },
             "gate.retakes" => arm with { Gate = new GateOverride { Retakes = (int)value } },
+            "gate.typicalityWeight" => arm with { Gate = new GateOverride { TypicalityWeight = value } },
             "gate.test.maxItems" => arm with { Gate = new GateOverride { Test = new TestOverride { MaxItems = (int)value } } },
             "gate.test.delta" => arm with { Gate = new GateOverride { Test = new TestOverride { Delta = value } } },
             "gate.test.alpha" => arm with { Gate = new GateOverride { Test = new TestOverride { Alpha = value } } },
