@@ -16,13 +16,13 @@ namespace TeachServe.Cli.Commands;
 /// </summary>
 internal static class RobustnessCommand
 {
-    public const string Usage = "teachserve robustness DIR [DIR ...] [--learners N] [--seed S] [--policies a,b] [--kinds a,b] [--mastery-streak N] [--mastery-extension N] [--remediation MODE] [--typicality-weight W] [--out FILE]";
+    public const string Usage = "teachserve robustness DIR [DIR ...] [--learners N] [--seed S] [--policies a,b] [--kinds a,b] [--mastery-streak N] [--mastery-extension N] [--remediation MODE] [--typicality-weight W] [--opening-variety N] [--out FILE]";
 
     private static readonly string[] DefaultPolicies = [PolicyNames.Random, PolicyNames.StochasticGreedy, PolicyNames.Adaptive, PolicyNames.Cover];
 
     public static int Run(string[] args, TextWriter output, TextWriter error)
     {
-        var options = CliArguments.Parse(args, flags: [], values: ["--learners", "--seed", "--policies", "--kinds", "--out", "--mastery-streak", "--mastery-extension", "--remediation", "--typicality-weight"]);
+        var options = CliArguments.Parse(args, flags: [], values: ["--learners", "--seed", "--policies", "--kinds", "--out", "--mastery-streak", "--mastery-extension", "--remediation", "--typicality-weight", "--opening-variety"]);
         if (options is null || options.Positional.Count == 0)
         {
             return Commands.Usage.Fail(error, "robustness needs at least one project folder", Usage);
@@ -48,28 +48,11 @@ internal static class RobustnessCommand
         }
 
         // Ablations: the teaching rules against learners unlike the model, switched per run.
-        int? streak = null;
-        if (options.Value("--mastery-streak") is { } ms)
+        if (!TryInt(options, "--mastery-streak", 20, error, out var streak)
+            || !TryInt(options, "--mastery-extension", 10, error, out var extension)
+            || !TryInt(options, "--opening-variety", 10, error, out var opening))
         {
-            if (!int.TryParse(ms, CultureInfo.InvariantCulture, out var parsed) || parsed is < 0 or > 20)
-            {
-                error.WriteLine("--mastery-streak must be an integer between 0 and 20");
-                return ExitCodes.Usage;
-            }
-
-            streak = parsed;
-        }
-
-        int? extension = null;
-        if (options.Value("--mastery-extension") is { } me)
-        {
-            if (!int.TryParse(me, CultureInfo.InvariantCulture, out var parsed) || parsed is < 0 or > 10)
-            {
-                error.WriteLine("--mastery-extension must be an integer between 0 and 10");
-                return ExitCodes.Usage;
-            }
-
-            extension = parsed;
+            return ExitCodes.Usage;
         }
 
         double? typicality = null;
@@ -144,6 +127,7 @@ internal static class RobustnessCommand
                     MasteryExtension = extension ?? session.Gate.MasteryExtension,
                     Remediation = remediation ?? session.Gate.Remediation,
                     TypicalityWeight = typicality ?? session.Gate.TypicalityWeight,
+                    OpeningVariety = opening ?? session.Gate.OpeningVariety,
                 },
             };
             results[i] = Simulator.Run(p.Model, new SimulationOptions
@@ -203,4 +187,22 @@ internal static class RobustnessCommand
 
     private static string Number(double value, string format = "F1") =>
         double.IsFinite(value) ? value.ToString(format, CultureInfo.InvariantCulture) : "–";
+
+    private static bool TryInt(CliArguments options, string name, int max, TextWriter error, out int? value)
+    {
+        value = null;
+        if (options.Value(name) is not { } text)
+        {
+            return true;
+        }
+
+        if (!int.TryParse(text, CultureInfo.InvariantCulture, out var parsed) || parsed < 0 || parsed > max)
+        {
+            error.WriteLine($"{name} must be an integer between 0 and {max}");
+            return false;
+        }
+
+        value = parsed;
+        return true;
+    }
 }

@@ -48,6 +48,7 @@ public sealed record GateOverride
     public string? Remediation { get; init; }
     /// <summary>Arms may compare typical items first (<see cref="GateSettings.TypicalityWeight"/>) with the project's value on its own annotators.</summary>
     public double? TypicalityWeight { get; init; }
+    public int? OpeningVariety { get; init; }
 
     public GateSettings ApplyTo(GateSettings gate)
     {
@@ -63,6 +64,7 @@ public sealed record GateOverride
             MasteryExtension = MasteryExtension ?? gate.MasteryExtension,
             Remediation = Remediation ?? gate.Remediation,
             TypicalityWeight = TypicalityWeight ?? gate.TypicalityWeight,
+            OpeningVariety = OpeningVariety ?? gate.OpeningVariety,
         };
     }
 }

@@ -130,6 +130,8 @@ public static class ExperimentValidator
             check(FieldPath.Member(path, "remediation"), SettingRules.Remediation(remediation));
         if (gate.TypicalityWeight is { } typicality)
             check(FieldPath.Member(path, "typicalityWeight"), SettingRules.TypicalityWeight(typicality));
+        if (gate.OpeningVariety is { } opening)
+            check(FieldPath.Member(path, "openingVariety"), SettingRules.OpeningVariety(opening));
 
         var test = gate.Test;
         var testPath = FieldPath.Member(path, "test");

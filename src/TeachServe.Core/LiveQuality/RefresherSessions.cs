@@ -8,7 +8,7 @@ namespace TeachServe.Core.LiveQuality;
 /// the onboarding options of the annotator's model version, started from their live belief, taught by the adaptive
 /// policy (DESIGN 2.4: the items whose labels the belief says they now get wrong and that lower the predicted error
 /// most) for at most <see cref="RefresherSettings.MaxItems"/> items, then one attempt of the project's own held-out
-/// test. Passing it therefore means what passing onboarding means, at the same nominal error rates, with the whole
+/// test (no varied opening: the first item is the one the belief points to). Passing it therefore means what passing onboarding means, at the same nominal error rates, with the whole
 /// false-release rate beta spent on that one attempt.
 /// </summary>
 public static class RefresherSessions
@@ -23,7 +23,7 @@ public static class RefresherSessions
         {
             Policy = PolicyNames.Adaptive,
             StartWeights = startWeights,
-            Gate = onboarding.Gate with { MaxTeachingItems = settings.MaxItems, Retakes = 0 },
+            Gate = onboarding.Gate with { MaxTeachingItems = settings.MaxItems, Retakes = 0, OpeningVariety = 0 },
         };
     }
 }

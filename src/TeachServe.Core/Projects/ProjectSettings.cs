@@ -153,6 +153,13 @@ public sealed record GateSettings
     /// (docs/robustness.md).
     /// </summary>
     public double TypicalityWeight { get; init; }
+    /// <summary>
+    /// The adaptive policy's first this many teaching items are drawn (seeded per session) among the items whose gain is
+    /// within <c>SessionOptions.OpeningTolerance</c> of the best, so annotators do not all see the same opening (and
+    /// the first items of a project are not all its sharpest exceptions); 0 keeps the single best. Kept with each
+    /// session, so a replay draws the same items.
+    /// </summary>
+    public int OpeningVariety { get; init; } = 3;
 }
 
 public static class RemediationModes

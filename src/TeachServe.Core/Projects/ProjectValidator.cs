@@ -141,6 +141,7 @@ public static class ProjectValidator
             Check("gate.masteryExtension", SettingRules.MasteryExtension(g.MasteryExtension));
             Check("gate.remediation", SettingRules.Remediation(g.Remediation));
             Check("gate.typicalityWeight", SettingRules.TypicalityWeight(g.TypicalityWeight));
+            Check("gate.openingVariety", SettingRules.OpeningVariety(g.OpeningVariety));
 
             var t = g.Test;
             if (t is null)

@@ -35,6 +35,7 @@ internal static class SettingRules
     public static string? Remediation(string? mode) =>
         mode is RemediationModes.Representative or RemediationModes.Policy ? null : $"unknown remediation '{mode}'; expected {RemediationModes.Representative} or {RemediationModes.Policy}";
 
+    public static string? OpeningVariety(int items) => items is >= 0 and <= 10 ? null : $"must be in [0, 10], not {items}";
     public static string? TypicalityWeight(double weight) => weight is >= 0 and <= 10 ? null : $"must be in [0, 10], not {weight}";
 
     public static string? Retakes(int retakes) => retakes >= 0 ? null : $"must be ≥ 0, not {retakes}";

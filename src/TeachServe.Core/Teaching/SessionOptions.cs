@@ -39,14 +39,7 @@ public sealed record SessionOptions
     /// </summary>
     public IReadOnlyList<double>? StartWeights { get; init; }
 
-    /// <summary>
-    /// The first this many teaching items of the adaptive policy are drawn (with <see cref="Seed"/>) among the items whose
-    /// gain is within <see cref="OpeningTolerance"/> of the best, so annotators do not all see the same opening; 0 keeps
-    /// the single best. Fixed when a session starts and kept with it, so a replay draws the same items.
-    /// </summary>
-    public int OpeningVariety { get; init; }
-
-    /// <summary>Share of the best gain an opening item may fall short by (0.1: at least 90 % of the best).</summary>
+    /// <summary>Share of the best gain an opening item (<see cref="GateSettings.OpeningVariety"/>) may fall short by (0.1: at least 90 % of the best).</summary>
     public double OpeningTolerance { get; init; } = 0.1;
 
     public static SessionOptions FromProject(ProjectSettings settings, ulong seed) => new()

@@ -304,7 +304,7 @@ public sealed class SessionRun
         _remediating && Options.Gate.Remediation == RemediationModes.Representative
             ? _representative.ChooseNext(_belief, _shown, _taught.Count, _random)
             : _policy.ChooseNext(_belief, _shown, _taught.Count, _random,
-                _taught.Count < Options.OpeningVariety ? Options.OpeningTolerance : 0);
+                _taught.Count < Options.Gate.OpeningVariety ? Options.OpeningTolerance : 0);
 
     private void BeginTest()
     {

@@ -129,9 +129,8 @@ public sealed partial class SessionOperations(
         }
         // Exposure control: K fixed now from the counts so far, and kept in the start event for replays.
         var administration = await Exposure.ExposureCounts.AdministrationAsync(db, version, ct);
-        // Onboarding sessions start on varied items where the policy allows; a refresher starts where its belief says.
-        var openingVariety = refresher ? 0 : SessionLimits.OpeningVariety;
-        var run = SessionRun.Start(version.Model, SessionLoader.Options(version, session, administration, plan?.Start, plan?.Weights, openingVariety));
+        // Onboarding sessions start on varied items (gate.openingVariety); a refresher starts where its belief says.
+        var run = SessionRun.Start(version.Model, SessionLoader.Options(version, session, administration, plan?.Start, plan?.Weights));
         session.Phase = SessionViews.PhaseName(run.Phase);
         session.PredictedError = run.PredictedError;
         var (launchUrl, launchCode) = LaunchCodes.New(time, input.BaseUrl, id, token, input.LaunchLifetime);
@@ -145,7 +144,7 @@ public sealed partial class SessionOperations(
                 armName = session.ArmIndex is { } a ? Json.Deserialize<Core.Experiments.ArmDefinition>(session.ArmJson!).Name : null,
                 testAdministration = Exposure.ExposureCounts.ForEvent(version, administration),
                 purpose = session.Purpose, refresherFrom = plan?.Start.FromSessionId, refresherLiveChecks = plan?.Start.LiveChecks,
-                openingVariety,
+                openingVariety = run.Options.Gate.OpeningVariety,
             }),
         };
         try

@@ -15,19 +15,25 @@ public sealed class SessionLoader(ModelVersionCache versions, SessionStateCache 
 {
     /// <param name="testAdministration">The exposure-control K the session started with (see <see cref="Exposure.ExposureCounts"/>).</param>
     /// <param name="refresher">For a refresher, where it starts (stored with it); <paramref name="weights"/> unpacked, if at hand.</param>
+    /// <param name="openingVariety">On replay, the opening variety the session started with (its start event); null at the start, where the version's settings and the arm decide.</param>
     public static SessionOptions Options(
         CompiledVersion version, Session session, IReadOnlyList<double>? testAdministration,
-        LiveQuality.RefresherStart? refresher = null, double[]? weights = null, int openingVariety = 0)
+        LiveQuality.RefresherStart? refresher = null, double[]? weights = null, int? openingVariety = null)
     {
         var options = SessionOptions.FromProject(version.Settings, unchecked((ulong)session.Seed))
-            with { TestAdministration = testAdministration, OpeningVariety = openingVariety };
+            with { TestAdministration = testAdministration };
         if (refresher is not null)
         {
             var settings = new Core.LiveQuality.RefresherSettings { TargetRuleError = version.Settings.Gate.TargetError, MaxItems = refresher.MaxItems };
-            return Core.LiveQuality.RefresherSessions.Options(options, settings, weights ?? LiveQuality.RefresherStart.Unpack(refresher.Weights));
+            options = Core.LiveQuality.RefresherSessions.Options(options, settings, weights ?? LiveQuality.RefresherStart.Unpack(refresher.Weights));
         }
-        // An experiment arm's overrides were fixed at the start; applying the stored copy keeps replay exact.
-        return session.ArmJson is null ? options : Json.Deserialize<Core.Experiments.ArmDefinition>(session.ArmJson).Apply(options);
+        else if (session.ArmJson is not null)
+        {
+            // An experiment arm's overrides were fixed at the start; applying the stored copy keeps replay exact.
+            options = Json.Deserialize<Core.Experiments.ArmDefinition>(session.ArmJson).Apply(options);
+        }
+
+        return openingVariety is { } opening ? options with { Gate = options.Gate with { OpeningVariety = opening } } : options;
     }
 
     /// <summary>Call with the session's lock held.</summary>
@@ -40,7 +46,7 @@ public sealed class SessionLoader(ModelVersionCache versions, SessionStateCache 
         return (version, run);
     }
 
-    /// <summary>The opening variety the session started with, from its start event (none for sessions older than the setting).</summary>
+    /// <summary>The opening variety the session started with, from its start event (none for sessions older than the setting), so a later change of the setting does not change how it replays.</summary>
     private static async Task<int> OpeningVarietyAsync(TeachServeDb db, string sessionId, CancellationToken ct)
     {
         var started = await db.Events.AsNoTracking().Where(e => e.SessionId == sessionId && e.Type == EventTypes.SessionStarted)

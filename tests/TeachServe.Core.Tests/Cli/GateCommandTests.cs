@@ -95,10 +95,27 @@ public class RobustnessCommandTests
         Assert.Equal(output, CliRun.Run(args).Output);
     }
 
+    [Fact]
+    public void A_varied_opening_changes_the_adaptive_sessions_and_stays_reproducible()
+    {
+        string[] args = ["robustness", CliRun.Seed("weld-seams"), "--learners", "40", "--seed", "4", "--policies", "adaptive", "--kinds", "assumed"];
+        var plain = CliRun.Run([.. args, "--opening-variety", "0"]);
+        var varied = CliRun.Run(args);
+        Assert.Equal(0, varied.Code);
+        static string Row(string output) => output.Split('\n').Single(l => l.StartsWith("| weld-seams | assumed | adaptive |", StringComparison.Ordinal));
+        Assert.NotEqual(Row(plain.Output), Row(varied.Output));
+        // The project's default (gate.openingVariety 3) is what the option's 3 gives.
+        Assert.Equal(varied.Output, CliRun.Run([.. args, "--opening-variety", "3"]).Output);
+    }
+
     [Theory]
     [InlineData("--kinds", "clairvoyant")]
     [InlineData("--policies", "greedy-ish")]
     [InlineData("--learners", "-1")]
+    [InlineData("--mastery-streak", "21")]
+    [InlineData("--mastery-extension", "x")]
+    [InlineData("--opening-variety", "-1")]
+    [InlineData("--opening-variety", "11")]
     public void Bad_options_exit_2(string option, string value)
     {
         var (code, _, error) = CliRun.Run("robustness", CliRun.Seed("weld-seams"), option, value);

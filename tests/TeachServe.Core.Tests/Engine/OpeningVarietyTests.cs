@@ -12,7 +12,9 @@ public sealed class OpeningVarietyTests(SeedModels seeds) : IClassFixture<SeedMo
     public void Opening_items_vary_between_sessions_and_each_is_within_the_tolerance_of_the_best_gain(string name)
     {
         var (project, model) = seeds.Get(name);
-        var settings = SessionOptions.FromProject(project.Settings, 0);
+        var fromProject = SessionOptions.FromProject(project.Settings, 0);
+        Assert.Equal(3, fromProject.Gate.OpeningVariety);
+        var settings = fromProject with { Gate = fromProject.Gate with { OpeningVariety = 0 } };
         var prior = model.Prior.ToArray();
         var gains = ReferenceTeacher.AdaptiveGains(model, prior, prior, model.Q, settings.BlendWeight, new bool[model.TeachCount]);
         var best = gains.Max();
@@ -21,7 +23,7 @@ public sealed class OpeningVarietyTests(SeedModels seeds) : IClassFixture<SeedMo
         Assert.Single(plain);
 
         var varied = Enumerable.Range(1, 40)
-            .Select(s => SessionRun.Start(model, settings with { Seed = (ulong)s, OpeningVariety = 3 }))
+            .Select(s => SessionRun.Start(model, settings with { Seed = (ulong)s, Gate = settings.Gate with { OpeningVariety = 3 } }))
             .ToList();
         var firsts = varied.Select(r => r.CurrentItem).ToHashSet();
         Assert.True(firsts.Count >= 3, $"{firsts.Count} distinct first items");

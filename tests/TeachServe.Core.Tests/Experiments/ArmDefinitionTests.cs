@@ -69,10 +69,11 @@ public class ArmDefinitionTests
             MasteryExtension = 0,
             Remediation = RemediationModes.Policy,
             TypicalityWeight = 1.5,
+            OpeningVariety = 0,
             Test = new TestOverride { Mode = TestModes.Fixed, MaxItems = 8, Delta = 0.1, Alpha = 0.01, Beta = 0.02 },
         };
         var applied = gate.ApplyTo(Base.Gate);
-        Assert.Equal((5, 0, RemediationModes.Policy, 1.5), (applied.MasteryStreak, applied.MasteryExtension, applied.Remediation, applied.TypicalityWeight));
+        Assert.Equal((5, 0, RemediationModes.Policy, 1.5, 0), (applied.MasteryStreak, applied.MasteryExtension, applied.Remediation, applied.TypicalityWeight, applied.OpeningVariety));
         Assert.Equal(
             (0.2, 0.9, 12, 3, TestModes.Fixed, 8, 0.1, 0.01, 0.02),
             (applied.TargetError, applied.Confidence, applied.MaxTeachingItems, applied.Retakes, applied.Test.Mode, applied.Test.MaxItems, applied.Test.Delta, applied.Test.Alpha, applied.Test.Beta));

@@ -143,6 +143,8 @@ public class ExperimentValidatorTests
     [InlineData("gate.typicalityWeight", -0.5)]
     [InlineData("gate.typicalityWeight", 10.5)]
     [InlineData("gate.typicalityWeight", double.NaN)]
+    [InlineData("gate.openingVariety", -1)]
+    [InlineData("gate.openingVariety", 11)]
     [InlineData("gate.test.maxItems", 0)]
     [InlineData("gate.test.delta", 0)]
     [InlineData("gate.test.alpha", 0)]
@@ -163,6 +165,8 @@ public class ExperimentValidatorTests
     [InlineData("gate.retakes", 0)]
     [InlineData("gate.typicalityWeight", 0)]
     [InlineData("gate.typicalityWeight", 10)]
+    [InlineData("gate.openingVariety", 0)]
+    [InlineData("gate.openingVariety", 10)]
     [InlineData("gate.test.maxItems", 1)]
     [InlineData("gate.test.delta", 0.3)]
     [InlineData("gate.test.alpha", 0.499)]
@@ -241,6 +245,7 @@ public class ExperimentValidatorTests
             "gate.maxTeachingItems" => arm with { Gate = new GateOverride { MaxTeachingItems = (int)value } },
             "gate.retakes" => arm with { Gate = new GateOverride { Retakes = (int)value } },
             "gate.typicalityWeight" => arm with { Gate = new GateOverride { TypicalityWeight = value } },
+            "gate.openingVariety" => arm with { Gate = new GateOverride { OpeningVariety = (int)value } },
             "gate.test.maxItems" => arm with { Gate = new GateOverride { Test = new TestOverride { MaxItems = (int)value } } },
             "gate.test.delta" => arm with { Gate = new GateOverride { Test = new TestOverride { Delta = value } } },
             "gate.test.alpha" => arm with { Gate = new GateOverride { Test = new TestOverride { Alpha = value } } },

@@ -187,6 +187,18 @@ public class ProjectValidatorTests
         Assert.Equal(refused ? ["gate.typicalityWeight"] : [], fields);
     }
 
+    [Theory]
+    [InlineData(-1, true)]
+    [InlineData(11, true)]
+    [InlineData(0, false)]
+    [InlineData(10, false)]
+    public void The_opening_variety_is_checked_by_field(int items, bool refused)
+    {
+        var s = ProjectSamples.Settings();
+        var fields = ProjectValidator.Validate(s with { Gate = s.Gate with { OpeningVariety = items } }, ProjectSamples.Items()).Select(p => p.Field ?? "").ToArray();
+        Assert.Equal(refused ? ["gate.openingVariety"] : [], fields);
+    }
+
     [Fact]
     public void A_test_pool_smaller_than_one_attempt_is_refused_at_compile()
     {
