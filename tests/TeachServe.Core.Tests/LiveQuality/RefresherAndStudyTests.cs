@@ -105,6 +105,15 @@ public sealed class RefresherAndStudyTests(SeedModels seeds) : IClassFixture<See
         Assert.Equal(0, clicker.UnderTarget);
         var shortcut = one.Refreshers.Single(r => r.Scenario == "shortcut rule");
         Assert.True(shortcut.MedianItems <= 10);
+
+        // The deployed item-aware chart, calibrated on other simulated annotators, keeps its ARL0 on the study's own
+        // stable annotators within 4 combined standard errors.
+        var itemAware = one.ItemAware;
+        var calibration = itemAware.Design.Calibration!;
+        Assert.Equal(200, calibration.TargetRunLength);
+        var combined = Math.Sqrt(Math.Pow(calibration.StandardError, 2) + Math.Pow(itemAware.MeasuredStandardError, 2));
+        Assert.InRange(itemAware.MeasuredRunLength, calibration.InControlRunLength - (4 * combined), calibration.InControlRunLength + (4 * combined));
+        Assert.Contains(one.Ratios, r => r.Monitor == MonitorNames.ItemAwareCusum && r.Scenario == "random answers" && r.Ratio < 1);
     }
 
     [Fact]
@@ -115,6 +124,8 @@ public sealed class RefresherAndStudyTests(SeedModels seeds) : IClassFixture<See
         Assert.Contains("count CUSUM designs", output, StringComparison.Ordinal);
         Assert.Contains("| shortcut rule | 100 |", output, StringComparison.Ordinal);
         Assert.Contains("refreshers at the first alarm", output, StringComparison.Ordinal);
+        Assert.Contains("item-aware CUSUM: alternatives rules above target, random answers", output, StringComparison.Ordinal);
+        Assert.Contains("| item-aware / window |", output, StringComparison.Ordinal);
         Assert.Contains("true 0.02/check: fitted", output, StringComparison.Ordinal);
 
         var bad = CliRun.Run("live-quality", CliRun.Seed("weld-seams"), "--drift", "0.05");
