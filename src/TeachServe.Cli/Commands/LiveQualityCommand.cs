@@ -13,11 +13,11 @@ namespace TeachServe.Cli.Commands;
 /// </summary>
 internal static class LiveQualityCommand
 {
-    public const string Usage = "teachserve live-quality DIR [--annotators N] [--seed S] [--arl0 200,500,1000] [--drift RULE_ERROR] [--candidates N] [--refreshers N] [--reference release|target] [--fit N] [--threads N]";
+    public const string Usage = "teachserve live-quality DIR [--annotators N] [--seed S] [--arl0 200,500,1000] [--drift RULE_ERROR] [--candidates N] [--refreshers N] [--reference release|target] [--fit N] [--threads N] [--item-alternatives above,random,prior,halfway]";
 
     public static int Run(string[] args, TextWriter output, TextWriter error)
     {
-        var options = CliArguments.Parse(args, flags: [], values: ["--annotators", "--seed", "--arl0", "--drift", "--candidates", "--refreshers", "--threads", "--reference", "--fit"]);
+        var options = CliArguments.Parse(args, flags: [], values: ["--annotators", "--seed", "--arl0", "--drift", "--candidates", "--refreshers", "--threads", "--reference", "--fit", "--item-alternatives"]);
         if (options is null || options.Positional.Count != 1)
         {
             return Commands.Usage.Fail(error, "live-quality needs one project folder", Usage);
@@ -75,8 +75,29 @@ internal static class LiveQualityCommand
             atRelease = reference == "release";
         }
 
+        IReadOnlyList<DriftAlternative> itemAlternatives = study.ItemAwareAlternatives;
+        if (options.Value("--item-alternatives") is { } names)
+        {
+            var parsed = names.Split(',').Select(n => n switch
+            {
+                "above" => DriftAlternative.RulesAboveTarget,
+                "random" => DriftAlternative.Random,
+                "prior" => DriftAlternative.Prior,
+                "halfway" => DriftAlternative.HalfwayAboveTarget,
+                _ => (DriftAlternative?)null,
+            }).ToArray();
+            if (parsed.Any(p => p is null) || parsed.Distinct().Count() != parsed.Length)
+            {
+                error.WriteLine("--item-alternatives must be distinct names among above, random, prior, halfway, separated by commas");
+                return ExitCodes.Usage;
+            }
+
+            itemAlternatives = [.. parsed.Select(p => p!.Value)];
+        }
+
         study = study with
         {
+            ItemAwareAlternatives = itemAlternatives,
             ReferenceAtRelease = atRelease,
             Annotators = annotators ?? study.Annotators,
             Seed = seed,

@@ -11,6 +11,8 @@ public enum DriftAlternative
     Prior,
     /// <summary>Answers uniformly at random.</summary>
     Random,
+    /// <summary>Half way to a rule above target: each answer comes from the in-control view or from a rule above target, evenly.</summary>
+    HalfwayAboveTarget,
 }
 
 /// <summary>How an item-aware CUSUM's limit was set by simulation.</summary>
@@ -82,19 +84,16 @@ public static class ItemAwareCusum
                 case DriftAlternative.Prior:
                     p = AnswerDistribution(model, model.Prior, lapse);
                     break;
+                case DriftAlternative.HalfwayAboveTarget:
+                    p = AnswerDistribution(model, AboveTarget(model, targetRuleError), lapse);
+                    for (var i = 0; i < p.Length; i++)
+                    {
+                        p[i] = 0.5 * (p[i] + inControl[i]);
+                    }
+
+                    break;
                 default:
-                    var above = new double[model.HypothesisCount];
-                    for (var h = 0; h < above.Length; h++)
-                    {
-                        above[h] = model.Error[h] > targetRuleError ? model.Prior[h] : 0;
-                    }
-
-                    if (!(above.Sum() > 0))
-                    {
-                        throw new ArgumentException("No rule lies above the target, so there is no worse rule to drift to.", nameof(targetRuleError));
-                    }
-
-                    p = AnswerDistribution(model, above, lapse);
+                    p = AnswerDistribution(model, AboveTarget(model, targetRuleError), lapse);
                     break;
             }
 
@@ -217,8 +216,26 @@ public static class ItemAwareCusum
     {
         DriftAlternative.RulesAboveTarget => "rules above target",
         DriftAlternative.Prior => "prior",
+        DriftAlternative.HalfwayAboveTarget => "half way to rules above target",
         _ => "random answers",
     };
+
+    /// <summary>The prior restricted to rules above target.</summary>
+    private static double[] AboveTarget(ModelVersion model, double targetRuleError)
+    {
+        var above = new double[model.HypothesisCount];
+        for (var h = 0; h < above.Length; h++)
+        {
+            above[h] = model.Error[h] > targetRuleError ? model.Prior[h] : 0;
+        }
+
+        if (!(above.Sum() > 0))
+        {
+            throw new ArgumentException("No rule lies above the target, so there is no worse rule to drift to.", nameof(targetRuleError));
+        }
+
+        return above;
+    }
 
     /// <summary>P(a | x) = (1 − lapse)·Σ_h w(h)·1[h(x) = a]/Σ_h w(h) + lapse/K, laid out [x·K + a].</summary>
     internal static double[] AnswerDistribution(ModelVersion model, ReadOnlySpan<double> weights, double lapse)

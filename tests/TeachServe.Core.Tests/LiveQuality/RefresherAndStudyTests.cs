@@ -131,6 +131,9 @@ public sealed class RefresherAndStudyTests(SeedModels seeds) : IClassFixture<See
         var bad = CliRun.Run("live-quality", CliRun.Seed("weld-seams"), "--drift", "0.05");
         Assert.NotEqual(0, bad.Code);
         Assert.Contains("--drift", bad.Error, StringComparison.Ordinal);
+        var unknown = CliRun.Run("live-quality", CliRun.Seed("weld-seams"), "--item-alternatives", "above,sideways");
+        Assert.NotEqual(0, unknown.Code);
+        Assert.Contains("--item-alternatives", unknown.Error, StringComparison.Ordinal);
         Assert.NotEqual(0, CliRun.Run("live-quality").Code);
     }
 }
