@@ -13,7 +13,7 @@ namespace TeachServe.Cli.Commands;
 /// </summary>
 internal static class LiveQualityCommand
 {
-    public const string Usage = "teachserve live-quality DIR [--annotators N] [--seed S] [--arl0 200,500,1000] [--drift RULE_ERROR] [--candidates N] [--refreshers N] [--reference release|target] [--fit N] [--threads N] [--item-alternatives above,random,prior,halfway]";
+    public const string Usage = "teachserve live-quality DIR [--annotators N] [--seed S] [--arl0 200,500,1000] [--drift RULE_ERROR] [--candidates N] [--refreshers N] [--reference release|target] [--fit N] [--threads N] [--item-alternatives above,random,prior,halfway,near]";
 
     public static int Run(string[] args, TextWriter output, TextWriter error)
     {
@@ -84,11 +84,12 @@ internal static class LiveQualityCommand
                 "random" => DriftAlternative.Random,
                 "prior" => DriftAlternative.Prior,
                 "halfway" => DriftAlternative.HalfwayAboveTarget,
+                "near" => DriftAlternative.RulesNearTarget,
                 _ => (DriftAlternative?)null,
             }).ToArray();
             if (parsed.Any(p => p is null) || parsed.Distinct().Count() != parsed.Length)
             {
-                error.WriteLine("--item-alternatives must be distinct names among above, random, prior, halfway, separated by commas");
+                error.WriteLine("--item-alternatives must be distinct names among above, random, prior, halfway, near, separated by commas");
                 return ExitCodes.Usage;
             }
 

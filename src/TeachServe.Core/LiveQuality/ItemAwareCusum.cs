@@ -13,6 +13,8 @@ public enum DriftAlternative
     Random,
     /// <summary>Half way to a rule above target: each answer comes from the in-control view or from a rule above target, evenly.</summary>
     HalfwayAboveTarget,
+    /// <summary>Holds a rule drawn from the prior among the rules above target and at most the drift rule error (the drift the project's gate is set to tell apart).</summary>
+    RulesNearTarget,
 }
 
 /// <summary>How an item-aware CUSUM's limit was set by simulation.</summary>
@@ -47,11 +49,16 @@ public sealed record ItemAwareCalibrationOptions
 /// </summary>
 public static class ItemAwareCusum
 {
-    /// <summary>The default alternatives: a worse rule, or random answers.</summary>
-    public static IReadOnlyList<DriftAlternative> DefaultAlternatives { get; } = [DriftAlternative.RulesAboveTarget, DriftAlternative.Random];
+    /// <summary>
+    /// The default alternatives: a rule between the target and the drift rule error, or random answers. Measured against
+    /// <see cref="DriftAlternative.RulesAboveTarget"/> in their place (docs/live-quality.md): sooner for shortcuts, a
+    /// little later for random answers.
+    /// </summary>
+    public static IReadOnlyList<DriftAlternative> DefaultAlternatives { get; } = [DriftAlternative.RulesNearTarget, DriftAlternative.Random];
 
     /// <summary>The weights (no limit yet) for an in-control annotator described by <paramref name="inControlBelief"/>.</summary>
-    public static ItemAwareCusumDesign Weights(ModelVersion model, ReadOnlySpan<double> inControlBelief, double lapse, double targetRuleError, IReadOnlyList<DriftAlternative>? alternatives = null)
+    /// <param name="driftRuleError">The upper rule error of <see cref="DriftAlternative.RulesNearTarget"/>: the drift the gate is set to tell apart (target + delta).</param>
+    public static ItemAwareCusumDesign Weights(ModelVersion model, ReadOnlySpan<double> inControlBelief, double lapse, double targetRuleError, double driftRuleError, IReadOnlyList<DriftAlternative>? alternatives = null)
     {
         ArgumentNullException.ThrowIfNull(model);
         if (inControlBelief.Length != model.HypothesisCount)
@@ -84,6 +91,14 @@ public static class ItemAwareCusum
                 case DriftAlternative.Prior:
                     p = AnswerDistribution(model, model.Prior, lapse);
                     break;
+                case DriftAlternative.RulesNearTarget:
+                    if (!(driftRuleError > targetRuleError))
+                    {
+                        throw new ArgumentOutOfRangeException(nameof(driftRuleError), driftRuleError, "Must lie above the target rule error.");
+                    }
+
+                    p = AnswerDistribution(model, AboveTarget(model, targetRuleError, driftRuleError), lapse);
+                    break;
                 case DriftAlternative.HalfwayAboveTarget:
                     p = AnswerDistribution(model, AboveTarget(model, targetRuleError), lapse);
                     for (var i = 0; i < p.Length; i++)
@@ -114,9 +129,9 @@ public static class ItemAwareCusum
     /// for in-control annotators drawn from <paramref name="inControlBelief"/> (rule h ~ β, live checks drawn uniformly
     /// from the model's items).
     /// </summary>
-    public static ItemAwareCusumDesign Design(ModelVersion model, ReadOnlySpan<double> inControlBelief, double lapse, double targetRuleError, double inControlRunLength, IReadOnlyList<DriftAlternative>? alternatives = null, ItemAwareCalibrationOptions? options = null)
+    public static ItemAwareCusumDesign Design(ModelVersion model, ReadOnlySpan<double> inControlBelief, double lapse, double targetRuleError, double driftRuleError, double inControlRunLength, IReadOnlyList<DriftAlternative>? alternatives = null, ItemAwareCalibrationOptions? options = null)
     {
-        var weights = Weights(model, inControlBelief, lapse, targetRuleError, alternatives);
+        var weights = Weights(model, inControlBelief, lapse, targetRuleError, driftRuleError, alternatives);
         return Calibrate(weights, RuleAnnotators(model, inControlBelief, lapse), inControlRunLength, options);
     }
 
@@ -217,16 +232,17 @@ public static class ItemAwareCusum
         DriftAlternative.RulesAboveTarget => "rules above target",
         DriftAlternative.Prior => "prior",
         DriftAlternative.HalfwayAboveTarget => "half way to rules above target",
+        DriftAlternative.RulesNearTarget => "rules near target",
         _ => "random answers",
     };
 
-    /// <summary>The prior restricted to rules above target.</summary>
-    private static double[] AboveTarget(ModelVersion model, double targetRuleError)
+    /// <summary>The prior restricted to rules above target (and at most <paramref name="upTo"/>).</summary>
+    private static double[] AboveTarget(ModelVersion model, double targetRuleError, double upTo = 1)
     {
         var above = new double[model.HypothesisCount];
         for (var h = 0; h < above.Length; h++)
         {
-            above[h] = model.Error[h] > targetRuleError ? model.Prior[h] : 0;
+            above[h] = model.Error[h] > targetRuleError && model.Error[h] <= upTo ? model.Prior[h] : 0;
         }
 
         if (!(above.Sum() > 0))

@@ -62,7 +62,7 @@ public static class LiveQualityStudy
         // The item-aware CUSUM: weights from the released population's belief (the prior within target), swept over
         // limits on a grid in nats like the other monitors; and, separately, the design a server would deploy, its limit
         // calibrated for the deployed ARL0 on other simulated annotators, whose ARL0 the study then measures afresh.
-        var itemAware = ItemAwareCusum.Weights(model, release, lapse, targetRuleError, options.ItemAwareAlternatives);
+        var itemAware = ItemAwareCusum.Weights(model, release, lapse, targetRuleError, driftRuleError, options.ItemAwareAlternatives);
         var itemAwareDeployed = ItemAwareCusum.Calibrate(
             itemAware,
             ItemAwareCusum.RuleAnnotators(model, release, lapse),

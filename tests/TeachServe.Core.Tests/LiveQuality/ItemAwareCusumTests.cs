@@ -86,7 +86,7 @@ public sealed class ItemAwareCusumTests
     public void Items_that_differ_in_difficulty_weigh_a_wrong_answer_differently()
     {
         var release = InTarget(out var target);
-        var design = ItemAwareCusum.Weights(Model, release, 0.1, target);
+        var design = ItemAwareCusum.Weights(Model, release, 0.1, target, Drift(target), [DriftAlternative.RulesAboveTarget, DriftAlternative.Random]);
         var inControl = ItemAwareCusum.AnswerDistribution(Model, release, 0.1);
         var wrongWeights = new List<double>();
         for (var x = 0; x < Model.ItemCount; x++)
@@ -142,7 +142,7 @@ public sealed class ItemAwareCusumTests
     public void Calibrated_run_length_holds_on_fresh_in_control_annotators_within_its_stated_error()
     {
         var release = InTarget(out var target);
-        var design = ItemAwareCusum.Design(Model, release, 0.1, target, 200, options: new ItemAwareCalibrationOptions { Annotators = 300, Seed = 5 });
+        var design = ItemAwareCusum.Design(Model, release, 0.1, target, Drift(target), 200, options: new ItemAwareCalibrationOptions { Annotators = 300, Seed = 5 });
         var c = design.Calibration!;
         Assert.Equal(200, c.TargetRunLength);
         Assert.True(c.InControlRunLength >= 200);
@@ -156,7 +156,7 @@ public sealed class ItemAwareCusumTests
         Assert.InRange(fresh.RunLength, c.InControlRunLength - (4 * combined), c.InControlRunLength + (4 * combined));
 
         // The same seed gives the same limit (reproducible), another seed a limit close by.
-        var again = ItemAwareCusum.Design(Model, release, 0.1, target, 200, options: new ItemAwareCalibrationOptions { Annotators = 300, Seed = 5 });
+        var again = ItemAwareCusum.Design(Model, release, 0.1, target, Drift(target), 200, options: new ItemAwareCalibrationOptions { Annotators = 300, Seed = 5 });
         Assert.Equal(design.Limit, again.Limit);
     }
 
@@ -168,7 +168,7 @@ public sealed class ItemAwareCusumTests
         var release = InTarget(out var target);
         var annotators = ItemAwareCusum.RuleAnnotators(Model, release, 0.1);
         var options = new ItemAwareCalibrationOptions { Annotators = 200, Seed = 9 };
-        var itemAware = ItemAwareCusum.Calibrate(ItemAwareCusum.Weights(Model, release, 0.1, target, [DriftAlternative.Random]), annotators, 300, options);
+        var itemAware = ItemAwareCusum.Calibrate(ItemAwareCusum.Weights(Model, release, 0.1, target, Drift(target), [DriftAlternative.Random]), annotators, 300, options);
 
         var inControl = ItemAwareCusum.AnswerDistribution(Model, release, 0.1);
         var p0 = Enumerable.Range(0, Model.ItemCount).Average(x => 1 - inControl[(x * 3) + Model.TrueLabel(x)]);
@@ -208,7 +208,7 @@ public sealed class ItemAwareCusumTests
     public void Monitor_raises_an_item_aware_alarm_restarts_it_and_keeps_it_in_the_state_bytes()
     {
         var release = InTarget(out var target);
-        var design = ItemAwareCusum.Design(Model, release, 0.1, target, 200, options: new ItemAwareCalibrationOptions { Annotators = 100 });
+        var design = ItemAwareCusum.Design(Model, release, 0.1, target, Drift(target), 200, options: new ItemAwareCalibrationOptions { Annotators = 100 });
         var monitor = new LiveMonitor(new LiveMonitorSettings { Cusum = BernoulliCusum.Design(0.15, 0.35, 100_000, maxDown: 1), ItemAware = design }, Model);
         var state = monitor.Start();
         Assert.Equal(2, state.ItemAwareStatistics.Count);
@@ -242,8 +242,11 @@ public sealed class ItemAwareCusumTests
 
         // A design for another model version is refused.
         Assert.Throws<ArgumentException>(() => new LiveMonitor(new LiveMonitorSettings { Cusum = BernoulliCusum.Design(0.15, 0.35, 100), ItemAware = design }, TinyModels.Thresholds(8, 5, alpha: 2.0, lapse: 0.02)));
-        Assert.Throws<ArgumentOutOfRangeException>(() => new LiveMonitor(new LiveMonitorSettings { Cusum = BernoulliCusum.Design(0.15, 0.35, 100), ItemAware = ItemAwareCusum.Weights(Model, release, 0.1, target) }, Model));
+        Assert.Throws<ArgumentOutOfRangeException>(() => new LiveMonitor(new LiveMonitorSettings { Cusum = BernoulliCusum.Design(0.15, 0.35, 100), ItemAware = ItemAwareCusum.Weights(Model, release, 0.1, target, Drift(target), [DriftAlternative.RulesAboveTarget, DriftAlternative.Random]) }, Model));
     }
+
+    /// <summary>A drift rule error between the target and the worst rule.</summary>
+    private static double Drift(double target) => 0.5 * (target + Model.Error.ToArray().Max());
 
     /// <summary>The released population: the prior restricted to rules within a target between the best and the median rule.</summary>
     private static double[] InTarget(out double target)

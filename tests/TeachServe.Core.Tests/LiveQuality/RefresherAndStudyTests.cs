@@ -124,7 +124,7 @@ public sealed class RefresherAndStudyTests(SeedModels seeds) : IClassFixture<See
         Assert.Contains("count CUSUM designs", output, StringComparison.Ordinal);
         Assert.Contains("| shortcut rule | 100 |", output, StringComparison.Ordinal);
         Assert.Contains("refreshers at the first alarm", output, StringComparison.Ordinal);
-        Assert.Contains("item-aware CUSUM: alternatives rules above target, random answers", output, StringComparison.Ordinal);
+        Assert.Contains("item-aware CUSUM: alternatives rules near target, random answers", output, StringComparison.Ordinal);
         Assert.Contains("| item-aware / window |", output, StringComparison.Ordinal);
         Assert.Contains("true 0.02/check: fitted", output, StringComparison.Ordinal);
 
