@@ -14,7 +14,9 @@ namespace TeachServe.Core.LiveQuality;
 /// one on every item: exactly the count CUSUM's increments (Reynolds &amp; Stoumbos, "A CUSUM chart for monitoring a
 /// proportion when inspecting continuously", J. Quality Technology 31(1), 1999). For a single alternative whose
 /// per-check answer distribution is the true one after the change, Page's CUSUM is optimal in Lorden's worst-case
-/// delay sense (Moustakides, "Optimal stopping times for detecting changes in distributions", Ann. Stat. 14, 1986);
+/// delay sense (Moustakides, "Optimal stopping times for detecting changes in distributions", Ann. Stat. 14, 1986;
+/// cited from memory, the paper not in hand; likewise the Reynolds &amp; Stoumbos lattice chart, checked here only
+/// through <see cref="BernoulliCusum"/>'s exact Markov chain);
 /// here the increments are not identically distributed and the drifted annotator holds one rule, not the alternative's
 /// mixture, so that optimality is only a guide, and the limit is set by simulation (<see cref="ItemAwareCusum.Calibrate"/>).
 /// Checks on items outside the model version (gold items made up on the fly) use the item-averaged error weights.
