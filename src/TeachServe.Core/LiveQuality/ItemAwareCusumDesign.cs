@@ -76,6 +76,14 @@ public sealed class ItemAwareCusumDesign
             throw new ArgumentException("One known label per item is needed.", nameof(trueLabels));
         }
 
+        foreach (var label in trueLabels)
+        {
+            if (label < 0 || label >= labelCount)
+            {
+                throw new ArgumentOutOfRangeException(nameof(trueLabels), label, "A known label is outside the labels.");
+            }
+        }
+
         CheckDistributions(inControl, labelCount, nameof(inControl));
         var weights = new double[alternatives.Count][];
         var outside = new double[alternatives.Count][];
