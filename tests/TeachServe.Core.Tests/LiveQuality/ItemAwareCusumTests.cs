@@ -8,7 +8,8 @@ namespace TeachServe.Core.Tests.LiveQuality;
 /// <summary>
 /// The item-aware CUSUM: Page's CUSUM of per-answer log-likelihood ratios (Page, "Continuous inspection schemes",
 /// Biometrika 41, 1954), which reduces to the Bernoulli count CUSUM of Reynolds &amp; Stoumbos (J. Quality Technology
-/// 31(1), 1999) when every item is alike, and whose limit is set by seeded simulation.
+/// 31(1), 1999) when every item is alike, and whose limit is set by seeded simulation. Both papers are cited
+/// `from memory` (not in hand); every expected value here is derived or computed by the exact Markov chain.
 /// </summary>
 public sealed class ItemAwareCusumTests
 {
