@@ -13,11 +13,11 @@ namespace TeachServe.Cli.Commands;
 /// </summary>
 internal static class LiveQualityCommand
 {
-    public const string Usage = "teachserve live-quality DIR [--annotators N] [--seed S] [--arl0 200,500,1000] [--drift RULE_ERROR] [--candidates N] [--refreshers N] [--reference release|target] [--fit N] [--threads N]";
+    public const string Usage = "teachserve live-quality DIR [--annotators N] [--seed S] [--arl0 200,500,1000] [--drift RULE_ERROR] [--candidates N] [--refreshers N] [--reference release|target] [--fit N] [--threads N] [--item-alternatives above,random,prior,halfway,near]";
 
     public static int Run(string[] args, TextWriter output, TextWriter error)
     {
-        var options = CliArguments.Parse(args, flags: [], values: ["--annotators", "--seed", "--arl0", "--drift", "--candidates", "--refreshers", "--threads", "--reference", "--fit"]);
+        var options = CliArguments.Parse(args, flags: [], values: ["--annotators", "--seed", "--arl0", "--drift", "--candidates", "--refreshers", "--threads", "--reference", "--fit", "--item-alternatives"]);
         if (options is null || options.Positional.Count != 1)
         {
             return Commands.Usage.Fail(error, "live-quality needs one project folder", Usage);
@@ -75,8 +75,30 @@ internal static class LiveQualityCommand
             atRelease = reference == "release";
         }
 
+        IReadOnlyList<DriftAlternative> itemAlternatives = study.ItemAwareAlternatives;
+        if (options.Value("--item-alternatives") is { } names)
+        {
+            var parsed = names.Split(',').Select(n => n switch
+            {
+                "above" => DriftAlternative.RulesAboveTarget,
+                "random" => DriftAlternative.Random,
+                "prior" => DriftAlternative.Prior,
+                "halfway" => DriftAlternative.HalfwayAboveTarget,
+                "near" => DriftAlternative.RulesNearTarget,
+                _ => (DriftAlternative?)null,
+            }).ToArray();
+            if (parsed.Any(p => p is null) || parsed.Distinct().Count() != parsed.Length)
+            {
+                error.WriteLine("--item-alternatives must be distinct names among above, random, prior, halfway, near, separated by commas");
+                return ExitCodes.Usage;
+            }
+
+            itemAlternatives = [.. parsed.Select(p => p!.Value)];
+        }
+
         study = study with
         {
+            ItemAwareAlternatives = itemAlternatives,
             ReferenceAtRelease = atRelease,
             Annotators = annotators ?? study.Annotators,
             Seed = seed,
@@ -144,18 +166,21 @@ internal static class LiveQualityCommand
         output.WriteLine(Inv($"released annotators: mean answer error {r.ReleasedAnswerError:F4}; {o.Annotators} per scenario, change after {o.ChangeAt} checks, in-control horizon {o.InControlHorizon}, {o.AfterChangeHorizon} checks followed after the change"));
         output.WriteLine(Inv($"count CUSUM lattice {r.Lattice.Up}/{r.Lattice.Down}, reference error {r.Lattice.TargetError:F4} ({(o.ReferenceAtRelease ? "predicted at release" : "target")}) against p1 {r.Lattice.DriftError:F4}; limits swept, each at its pooled in-control ARL"));
         output.WriteLine(Inv($"candidate rules watched: {r.CandidateCount}, holding {r.CandidateCoverage:P1} of the prior mass of the shortcut rules drawn; window rule: last {o.Window} checks"));
+        var ia = r.ItemAware;
+        var cal = ia.Design.Calibration!;
+        output.WriteLine(Inv($"item-aware CUSUM: alternatives {string.Join(", ", ia.Design.Alternatives)}; limits swept every {ia.Step} nats; deployed limit {ia.Design.Limit:F2} nats calibrated for ARL0 {cal.TargetRunLength:F0} on {cal.Annotators} simulated in-control annotators x {cal.ChecksEach} checks (seed {cal.Seed}): ARL0 {cal.InControlRunLength:F1} (SE {cal.StandardError:F1}, {cal.Alarms} alarms); measured in this study at that limit: {ia.MeasuredRunLength:F1} (SE {ia.MeasuredStandardError:F1}, {ia.MeasuredAlarms} alarms)"));
         output.WriteLine();
         output.WriteLine("detection delay (checks after the change) at equal in-control ARL, mean [95 % interval], runs counted / runs whose rule never went above target; every limit is its own chart, restarted after each false alarm:");
-        output.WriteLine("| scenario | ARL0 | " + string.Join(" | ", new[] { MonitorNames.CountCusum, MonitorNames.CandidateCusum, MonitorNames.Window }) + " | count / window | candidate / window |");
-        output.WriteLine("|---|---|---|---|---|---|---|");
+        output.WriteLine("| scenario | ARL0 | " + string.Join(" | ", Monitors) + " | count / window | candidate / window | item-aware / window |");
+        output.WriteLine("|---|---|---|---|---|---|---|---|---|");
         foreach (var scenario in r.Scenarios.Skip(1))
         {
             foreach (var arl in o.RunLengths)
             {
-                var cells = new[] { MonitorNames.CountCusum, MonitorNames.CandidateCusum, MonitorNames.Window }
+                var cells = Monitors
                     .Select(m => r.Delays.Single(d => d.Scenario == scenario && d.Monitor == m && d.RunLength == arl))
                     .Select(d => Inv($"{d.Delay:F1} [{d.Low:F1}, {d.High:F1}] {d.Runs}/{d.Excluded}"));
-                var ratios = new[] { MonitorNames.CountCusum, MonitorNames.CandidateCusum }
+                var ratios = Monitors.Where(m => m != MonitorNames.Window)
                     .Select(m => r.Ratios.Single(x => x.Scenario == scenario && x.Monitor == m && x.RunLength == arl))
                     .Select(x => Inv($"{x.Ratio:F2} [{x.Low:F2}, {x.High:F2}]"));
                 output.WriteLine(Inv($"| {scenario} | {arl:F0} | {string.Join(" | ", cells)} | {string.Join(" | ", ratios)} |"));
@@ -179,6 +204,8 @@ internal static class LiveQualityCommand
             output.WriteLine(Inv($"| {f.Scenario} | {f.Runs} | {f.MedianItems:F0} ({f.MeanItems:F1}) | {f.MedianErrorBefore:F3} | {f.MedianErrorAfter:F3} | {f.UnderTarget:P0} [{f.UnderTargetLow:P0}, {f.UnderTargetHigh:P0}] | {f.Passed:P0} |"));
         }
     }
+
+    private static readonly string[] Monitors = [MonitorNames.CountCusum, MonitorNames.CandidateCusum, MonitorNames.ItemAwareCusum, MonitorNames.Window];
 
     private static bool Integer(CliArguments options, string name, int min, int max, TextWriter error, out int? value)
     {

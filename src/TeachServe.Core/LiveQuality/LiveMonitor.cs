@@ -13,6 +13,8 @@ public enum LiveAlarms
     CandidateRule = 2,
     /// <summary>The always-valid mixture test rejected "error ≤ target".</summary>
     Mixture = 4,
+    /// <summary>The item-aware CUSUM reached its limit: answers unlikely for a reliable annotator on the items checked.</summary>
+    ItemAware = 8,
 }
 
 /// <summary>The outcome of one step: the new state, what the views said, and which monitors alarmed.</summary>
@@ -48,6 +50,11 @@ public sealed class LiveMonitor
             throw new ArgumentException("Candidate-rule charts need the model version.", nameof(model));
         }
 
+        if (settings.ItemAware is { } itemAware && model is not null && (itemAware.ItemCount != model.ItemCount || itemAware.LabelCount != model.LabelCount))
+        {
+            throw new ArgumentException("The item-aware CUSUM was designed for another model version.", nameof(settings));
+        }
+
         Settings = settings;
         _model = model;
         _candidateNoise = settings.TargetAnswerError;
@@ -64,7 +71,7 @@ public sealed class LiveMonitor
             throw new ArgumentOutOfRangeException(nameof(candidateRules), "Candidate rules must be hypotheses of the model version.");
         }
 
-        return new LiveMonitorState(LiveStatus.Reliable, 0, 0, 0, 0, 0, 0, rules, new int[rules.Length]);
+        return new LiveMonitorState(LiveStatus.Reliable, 0, 0, 0, 0, 0, 0, rules, new int[rules.Length], new double[Settings.ItemAware?.Alternatives.Count ?? 0]);
     }
 
     /// <summary>One live check.</summary>
@@ -110,6 +117,20 @@ public sealed class LiveMonitor
             }
         }
 
+        var itemAware = state.ItemAwareStatistics.ToArray();
+        if (Settings.ItemAware is { } itemDesign)
+        {
+            if (itemAware.Length != itemDesign.Alternatives.Count)
+            {
+                throw new ArgumentException("The state was started without the item-aware CUSUM; start it with these settings.", nameof(state));
+            }
+
+            if (itemDesign.Step(itemAware, check))
+            {
+                alarms |= LiveAlarms.ItemAware;
+            }
+        }
+
         var mixtureChecks = state.MixtureChecks + 1;
         var mixtureErrors = state.MixtureErrors + (wrong ? 1 : 0);
         if (Settings.MixtureAlpha > 0
@@ -120,6 +141,7 @@ public sealed class LiveMonitor
 
         var alarm = alarms != LiveAlarms.None;
         var watch = cusum >= Settings.WatchFraction * design.Limit
+            || (Settings.ItemAware is { } watched && ItemAwareCusumDesign.Value(itemAware) >= Settings.WatchFraction * watched.Limit)
             || (modelPredictedAnswerError is { } e && e > Settings.TargetAnswerError);
         var signals = new LiveSignals(alarm, watch);
         var status = LiveStatusMachine.AfterCheck(state.Status, signals);
@@ -127,6 +149,7 @@ public sealed class LiveMonitor
         {
             cusum = 0;
             Array.Clear(statistics);
+            Array.Clear(itemAware);
             mixtureChecks = 0;
             mixtureErrors = 0;
         }
@@ -140,7 +163,8 @@ public sealed class LiveMonitor
             mixtureErrors,
             state.Alarms + (alarm ? 1 : 0),
             [.. state.CandidateRules],
-            statistics);
+            statistics,
+            itemAware);
         return new LiveStep(next, signals, alarms, alarmedRule);
     }
 
@@ -157,7 +181,8 @@ public sealed class LiveMonitor
             0,
             state.Alarms,
             [.. state.CandidateRules],
-            new int[state.CandidateRules.Count]);
+            new int[state.CandidateRules.Count],
+            new double[state.ItemAwareStatistics.Count]);
     }
 
     /// <summary>The state after a whole live record, from <paramref name="start"/>; equal to applying the events one by one.</summary>

@@ -22,6 +22,12 @@ public sealed record LiveMonitorSettings
     /// </summary>
     public int CandidateLimit { get; init; }
 
+    /// <summary>
+    /// The item-aware CUSUM (<see cref="ItemAwareCusumDesign"/>, calibrated by <see cref="ItemAwareCusum.Design"/>);
+    /// null turns it off.
+    /// </summary>
+    public ItemAwareCusumDesign? ItemAware { get; init; }
+
     /// <summary>Level of the always-valid mixture test (alarm when Λ ≥ 1/α); 0 turns it off.</summary>
     public double MixtureAlpha { get; init; }
 
@@ -53,6 +59,10 @@ public sealed record LiveMonitorSettings
         }
 
         ArgumentOutOfRangeException.ThrowIfNegative(CandidateLimit, nameof(CandidateLimit));
+        if (ItemAware is { } itemAware && !(itemAware.Limit > 0 && !double.IsInfinity(itemAware.Limit)))
+        {
+            throw new ArgumentOutOfRangeException(nameof(ItemAware), itemAware.Limit, "The item-aware CUSUM needs a finite limit (calibrate it).");
+        }
         if (!(MixtureAlpha >= 0 && MixtureAlpha < 1))
         {
             throw new ArgumentOutOfRangeException(nameof(MixtureAlpha), MixtureAlpha, "Must lie in [0, 1).");

@@ -9,10 +9,17 @@ namespace TeachServe.Core.LiveQuality;
 /// </summary>
 public sealed class LiveMonitorState : IEquatable<LiveMonitorState>
 {
+    /// <summary>The first format, still written when the item-aware CUSUM is off, so stored states keep their bytes.</summary>
     private const byte FormatVersion = 1;
 
-    internal LiveMonitorState(LiveStatus status, int checks, int errors, int cusum, int mixtureChecks, int mixtureErrors, int alarms, int[] candidates, int[] candidateStatistics)
+    /// <summary>The format with the item-aware CUSUM's statistics (a count, then one double per alternative).</summary>
+    private const byte FormatVersionItemAware = 2;
+
+    private const int Header = 1 + (7 * 4);
+
+    internal LiveMonitorState(LiveStatus status, int checks, int errors, int cusum, int mixtureChecks, int mixtureErrors, int alarms, int[] candidates, int[] candidateStatistics, double[]? itemAwareStatistics = null)
     {
+        ItemAwareStatistics = itemAwareStatistics ?? [];
         Status = status;
         Checks = checks;
         Errors = errors;
@@ -50,17 +57,36 @@ public sealed class LiveMonitorState : IEquatable<LiveMonitorState>
     /// <summary>Each candidate-rule CUSUM's statistic, in units of its weight.</summary>
     public IReadOnlyList<int> CandidateStatistics { get; }
 
-    /// <summary>A compact binary form (about 30 bytes plus 8 per candidate rule).</summary>
+    /// <summary>The item-aware CUSUM's statistics in nats, one per drift alternative (empty when it is off).</summary>
+    public IReadOnlyList<double> ItemAwareStatistics { get; }
+
+    /// <summary>
+    /// A compact binary form (about 30 bytes plus 8 per candidate rule, plus 4 + 8 per item-aware alternative). Without
+    /// the item-aware CUSUM the bytes are those of the first format.
+    /// </summary>
     public byte[] ToBytes()
     {
-        var buffer = new byte[1 + (7 * 4) + (CandidateRules.Count * 8)];
-        buffer[0] = FormatVersion;
+        var itemAware = ItemAwareStatistics.Count;
+        var extra = itemAware > 0 ? 4 + (itemAware * 8) : 0;
+        var buffer = new byte[Header + extra + (CandidateRules.Count * 8)];
+        buffer[0] = itemAware > 0 ? FormatVersionItemAware : FormatVersion;
         var span = buffer.AsSpan(1);
         int[] fields = [(int)Status, Checks, Errors, Cusum, MixtureChecks, MixtureErrors, Alarms];
         foreach (var f in fields)
         {
             BinaryPrimitives.WriteInt32LittleEndian(span, f);
             span = span[4..];
+        }
+
+        if (itemAware > 0)
+        {
+            BinaryPrimitives.WriteInt32LittleEndian(span, itemAware);
+            span = span[4..];
+            foreach (var v in ItemAwareStatistics)
+            {
+                BinaryPrimitives.WriteDoubleLittleEndian(span, v);
+                span = span[8..];
+            }
         }
 
         for (var i = 0; i < CandidateRules.Count; i++)
@@ -77,8 +103,7 @@ public sealed class LiveMonitorState : IEquatable<LiveMonitorState>
     /// <exception cref="FormatException">Not a state written by <see cref="ToBytes"/>.</exception>
     public static LiveMonitorState FromBytes(ReadOnlySpan<byte> bytes)
     {
-        const int header = 1 + (7 * 4);
-        if (bytes.Length < header || bytes[0] != FormatVersion || (bytes.Length - header) % 8 != 0)
+        if (bytes.Length < Header || (bytes[0] != FormatVersion && bytes[0] != FormatVersionItemAware))
         {
             throw new FormatException("Not a live-monitor state of a known format.");
         }
@@ -96,10 +121,37 @@ public sealed class LiveMonitorState : IEquatable<LiveMonitorState>
             throw new FormatException("The live-monitor state holds impossible values.");
         }
 
-        var count = span.Length / 8;
-        var rules = new int[count];
-        var statistics = new int[count];
-        for (var i = 0; i < count; i++)
+        var itemAware = Array.Empty<double>();
+        if (bytes[0] == FormatVersionItemAware)
+        {
+            var count = span.Length >= 4 ? BinaryPrimitives.ReadInt32LittleEndian(span) : -1;
+            if (count < 1 || count > 64 || span.Length < 4 + (count * 8))
+            {
+                throw new FormatException("Not a live-monitor state of a known format.");
+            }
+
+            span = span[4..];
+            itemAware = new double[count];
+            for (var i = 0; i < count; i++)
+            {
+                itemAware[i] = BinaryPrimitives.ReadDoubleLittleEndian(span);
+                span = span[8..];
+                if (!(itemAware[i] >= 0) || double.IsInfinity(itemAware[i]))
+                {
+                    throw new FormatException("The live-monitor state holds impossible values.");
+                }
+            }
+        }
+
+        if (span.Length % 8 != 0)
+        {
+            throw new FormatException("Not a live-monitor state of a known format.");
+        }
+
+        var candidates = span.Length / 8;
+        var rules = new int[candidates];
+        var statistics = new int[candidates];
+        for (var i = 0; i < candidates; i++)
         {
             rules[i] = BinaryPrimitives.ReadInt32LittleEndian(span);
             statistics[i] = BinaryPrimitives.ReadInt32LittleEndian(span[4..]);
@@ -110,7 +162,7 @@ public sealed class LiveMonitorState : IEquatable<LiveMonitorState>
             }
         }
 
-        return new LiveMonitorState((LiveStatus)fields[0], fields[1], fields[2], fields[3], fields[4], fields[5], fields[6], rules, statistics);
+        return new LiveMonitorState((LiveStatus)fields[0], fields[1], fields[2], fields[3], fields[4], fields[5], fields[6], rules, statistics, itemAware);
     }
 
     public string ToBase64() => Convert.ToBase64String(ToBytes());

@@ -59,7 +59,16 @@ public static class LiveQualityStudy
         var lattice = BernoulliCusum.WithLimit(reference, p1, 1, maxDown);
         var countLevels = BernoulliCusum.Design(reference, p1, options.RunLengths.Max() * 20, maxDown).Limit;
         var deployed = BernoulliCusum.Design(reference, p1, options.DeployedRunLength, maxDown);
-        var context = new Context(model, options, p0, lattice, countLevels, candidates, release, shortcut, lapse, targetRuleError);
+        // The item-aware CUSUM: weights from the released population's belief (the prior within target), swept over
+        // limits on a grid in nats like the other monitors; and, separately, the design a server would deploy, its limit
+        // calibrated for the deployed ARL0 on other simulated annotators, whose ARL0 the study then measures afresh.
+        var itemAware = ItemAwareCusum.Weights(model, release, lapse, targetRuleError, driftRuleError, options.ItemAwareAlternatives);
+        var itemAwareDeployed = ItemAwareCusum.Calibrate(
+            itemAware,
+            ItemAwareCusum.RuleAnnotators(model, release, lapse),
+            options.DeployedRunLength,
+            new ItemAwareCalibrationOptions { Seed = SeededRandom.Derive(options.Seed, 0x17E4A3A8E) });
+        var context = new Context(model, options, p0, lattice, countLevels, candidates, release, shortcut, lapse, targetRuleError, itemAware, itemAwareDeployed.Limit);
 
         var scenarios = new List<Scenario> { new("stable", LiveBehaviour.Stable, 0, 0) };
         scenarios.AddRange(options.ForgettingRates.Select((r, i) => new Scenario(string.Create(System.Globalization.CultureInfo.InvariantCulture, $"forgetting {r:0.###}/check"), LiveBehaviour.Forgetting, r, 1 + i)));
@@ -78,7 +87,7 @@ public static class LiveQualityStudy
         }
 
         var levels = new List<MonitorLevel>();
-        var monitors = new[] { MonitorNames.CountCusum, MonitorNames.CandidateCusum, MonitorNames.Window };
+        var monitors = new[] { MonitorNames.CountCusum, MonitorNames.CandidateCusum, MonitorNames.ItemAwareCusum, MonitorNames.Window };
         var stable = runs[0];
         var arl = new Dictionary<string, double[]>();
         foreach (var monitor in monitors)
@@ -134,6 +143,18 @@ public static class LiveQualityStudy
             mixtureDelays.Add((scenarios[s].Name, mean, counted.Length));
         }
 
+        var deployedChecks = stable.Sum(r => (double)r.Checks);
+        var deployedAlarms = stable.Sum(r => r.AlarmsItemAwareDeployed);
+        var deployedMean = (double)deployedAlarms / stable.Length;
+        var deployedVariance = stable.Sum(r => Math.Pow(r.AlarmsItemAwareDeployed - deployedMean, 2)) / (stable.Length - 1);
+        var deployedArl = deployedAlarms == 0 ? double.PositiveInfinity : deployedChecks / deployedAlarms;
+        var itemAwareCheck = new ItemAwareSummary(
+            itemAwareDeployed,
+            deployedArl,
+            deployedAlarms == 0 ? double.NaN : deployedArl * Math.Sqrt(deployedVariance) / (deployedMean * Math.Sqrt(stable.Length)),
+            deployedAlarms,
+            options.ItemAwareStep);
+
         var mixture = new MixtureSummary(options.MixtureAlpha, stable.Length, stableAlarms, (double)stableAlarms / stable.Length, alarmInterval.Low, alarmInterval.High, mixtureDelays);
 
         // Refreshers at the first alarm after the change of the deployed pair: the count CUSUM designed for the deployed
@@ -180,6 +201,7 @@ public static class LiveQualityStudy
             Delays = delays,
             Ratios = ratios,
             Mixture = mixture,
+            ItemAware = itemAwareCheck,
             Refreshers = refreshers,
             Options = options,
         };
@@ -228,6 +250,7 @@ public static class LiveQualityStudy
     {
         MonitorNames.CountCusum => context.CountLevels,
         MonitorNames.CandidateCusum => CandidateLevels,
+        MonitorNames.ItemAwareCusum => context.Options.ItemAwareLevels,
         _ => context.Options.Window,
     };
 
@@ -328,6 +351,9 @@ public static class LiveQualityStudy
         public required int[] AlarmsCount { get; init; }
         public required int[] AlarmsCandidate { get; init; }
         public required int[] AlarmsWindow { get; init; }
+        public required int[] FirstItemAware { get; init; }
+        public required int[] AlarmsItemAware { get; init; }
+        public int AlarmsItemAwareDeployed { get; set; }
         public int Checks { get; set; }
         public int MixtureFirst { get; set; } = NotReached;
         public int Change { get; set; } = -1;
@@ -338,6 +364,7 @@ public static class LiveQualityStudy
         {
             MonitorNames.CountCusum => FirstCount,
             MonitorNames.CandidateCusum => FirstCandidate,
+            MonitorNames.ItemAwareCusum => FirstItemAware,
             _ => FirstWindow,
         };
 
@@ -345,6 +372,7 @@ public static class LiveQualityStudy
         {
             MonitorNames.CountCusum => AlarmsCount,
             MonitorNames.CandidateCusum => AlarmsCandidate,
+            MonitorNames.ItemAwareCusum => AlarmsItemAware,
             _ => AlarmsWindow,
         };
     }
@@ -359,7 +387,9 @@ public static class LiveQualityStudy
         double[] release,
         double[] shortcut,
         double lapse,
-        double targetRuleError)
+        double targetRuleError,
+        ItemAwareCusumDesign itemAware,
+        double itemAwareDeployedLimit)
     {
         private readonly double _releaseTotal = release.Sum();
         private readonly double _shortcutTotal = shortcut.Sum();
@@ -382,6 +412,8 @@ public static class LiveQualityStudy
                 AlarmsCount = new int[countLevels + 1],
                 AlarmsCandidate = new int[CandidateLevels + 1],
                 AlarmsWindow = new int[options.Window + 1],
+                FirstItemAware = Filled(options.ItemAwareLevels + 1),
+                AlarmsItemAware = new int[options.ItemAwareLevels + 1],
             };
 
             // Every limit is its own chart, restarted after each of its alarms, so that false alarms before the change
@@ -396,7 +428,11 @@ public static class LiveQualityStudy
             var end = stableRun ? options.InControlHorizon : options.ChangeAt + options.AfterChangeHorizon;
             var random = pre;
             var history = trigger is null ? null : new List<LiveCheck>();
-            int deployedCount = 0, pending = countLevels + CandidateLevels + options.Window;
+            int deployedCount = 0, pending = countLevels + CandidateLevels + options.Window + options.ItemAwareLevels;
+            var alternatives = itemAware.Alternatives.Count;
+            var itemAwareStats = new double[(options.ItemAwareLevels + 1) * alternatives];
+            var itemAwareDeployed = new double[alternatives];
+            var increments = new double[alternatives];
             var deployedCandidates = new int[candidates.Length];
             var t = 0;
             while (t < end)
@@ -484,6 +520,46 @@ public static class LiveQualityStudy
                     {
                         var at = (level * candidates.Length) + c;
                         candidateStats[at] = Math.Max(0, candidateStats[at] + step);
+                    }
+                }
+
+                var check = new LiveCheck(item, answer, truth);
+                for (var j = 0; j < alternatives; j++)
+                {
+                    increments[j] = itemAware.Increment(j, check);
+                }
+
+                for (var level = 1; level <= options.ItemAwareLevels; level++)
+                {
+                    var limit = level * options.ItemAwareStep;
+                    var row = itemAwareStats.AsSpan(level * alternatives, alternatives);
+                    var alarm = false;
+                    for (var j = 0; j < alternatives; j++)
+                    {
+                        row[j] = Math.Max(0, row[j] + increments[j]);
+                        alarm |= row[j] >= limit;
+                    }
+
+                    if (alarm)
+                    {
+                        Alarm(record.AlarmsItemAware, record.FirstItemAware, level, t, afterChange, ref pending);
+                        row.Clear();
+                    }
+                }
+
+                if (stableRun)
+                {
+                    var alarm = false;
+                    for (var j = 0; j < alternatives; j++)
+                    {
+                        itemAwareDeployed[j] = Math.Max(0, itemAwareDeployed[j] + increments[j]);
+                        alarm |= itemAwareDeployed[j] >= itemAwareDeployedLimit;
+                    }
+
+                    if (alarm)
+                    {
+                        record.AlarmsItemAwareDeployed++;
+                        Array.Clear(itemAwareDeployed);
                     }
                 }
 

@@ -26,6 +26,15 @@ public sealed record LiveQualityStudyOptions
     /// <summary>Candidate rules watched by the candidate-rule CUSUMs.</summary>
     public int Candidates { get; init; } = 10;
 
+    /// <summary>The drift alternatives of the item-aware CUSUM (one chart each).</summary>
+    public IReadOnlyList<DriftAlternative> ItemAwareAlternatives { get; init; } = ItemAwareCusum.DefaultAlternatives;
+
+    /// <summary>The item-aware CUSUM's limits swept: this many nats apart ...</summary>
+    public double ItemAwareStep { get; init; } = 0.25;
+
+    /// <summary>... and this many of them.</summary>
+    public int ItemAwareLevels { get; init; } = 64;
+
     /// <summary>Per-check forgetting probabilities of the forgetting scenarios.</summary>
     public IReadOnlyList<double> ForgettingRates { get; init; } = [0.005, 0.02, 0.05];
 
@@ -61,6 +70,11 @@ public sealed record LiveQualityStudyOptions
         ArgumentOutOfRangeException.ThrowIfNegative(Candidates, nameof(Candidates));
         ArgumentOutOfRangeException.ThrowIfNegative(RefresherRuns, nameof(RefresherRuns));
         ArgumentOutOfRangeException.ThrowIfLessThan(Threads, 1, nameof(Threads));
+        ArgumentOutOfRangeException.ThrowIfLessThan(ItemAwareLevels, 2, nameof(ItemAwareLevels));
+        if (!(ItemAwareStep > 0 && ItemAwareStep < 10))
+        {
+            throw new ArgumentOutOfRangeException(nameof(ItemAwareStep), ItemAwareStep, "Must lie in (0, 10).");
+        }
         if (RunLengths.Count == 0 || RunLengths.Any(r => !(r > 1) || r * 2 > InControlHorizon))
         {
             throw new ArgumentOutOfRangeException(nameof(RunLengths), "Each run length must exceed 1 and be at most half the in-control horizon.");

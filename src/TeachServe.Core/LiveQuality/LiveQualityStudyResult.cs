@@ -7,12 +7,14 @@ public static class MonitorNames
     public const string CountCusum = "count CUSUM";
     /// <summary>One CUSUM per candidate drift rule on the answers where it differs from the known label (model-based).</summary>
     public const string CandidateCusum = "candidate-rule CUSUM";
+    /// <summary>One CUSUM per drift alternative on the log-likelihood ratio of each answer to the item checked (model-based).</summary>
+    public const string ItemAwareCusum = "item-aware CUSUM";
     /// <summary>Common practice: alarm when the last W checks hold at least e errors.</summary>
     public const string Window = "fixed window";
 }
 
 /// <summary>One monitor at one limit and its in-control ARL, simulated on the released population.</summary>
-/// <param name="Level">The limit (lattice steps for the count chart, weight units for the candidate charts, errors in the window for the window rule).</param>
+/// <param name="Level">The limit (lattice steps for the count chart, weight units for the candidate charts, grid steps of <see cref="LiveQualityStudyOptions.ItemAwareStep"/> nats for the item-aware chart, errors in the window for the window rule).</param>
 /// <param name="InControlRunLength">In-control checks per false alarm over all stable annotators, the chart restarting after each alarm.</param>
 /// <param name="Censored">1 when no stable annotator alarmed at all (the value is then a lower bound), else 0.</param>
 public sealed record MonitorLevel(string Monitor, int Level, double InControlRunLength, int Censored);
@@ -38,6 +40,13 @@ public sealed record MixtureSummary(double Alpha, int StableRuns, int StableAlar
 /// <param name="Passed">Share whose check passed.</param>
 public sealed record RefresherSummary(string Scenario, int Runs, double MedianItems, double MeanItems, double MedianErrorBefore, double MedianErrorAfter, double UnderTarget, double UnderTargetLow, double UnderTargetHigh, double Passed);
 
+/// <summary>
+/// The item-aware CUSUM a server would deploy: its limit calibrated by simulation for the deployed ARL0, and the pooled
+/// ARL0 the study measured at that limit on its own stable annotators (other random numbers), with its standard error.
+/// </summary>
+/// <param name="Step">Nats per level of the study's sweep.</param>
+public sealed record ItemAwareSummary(ItemAwareCusumDesign Design, double MeasuredRunLength, double MeasuredStandardError, int MeasuredAlarms, double Step);
+
 public sealed record LiveQualityStudyResult
 {
     public required double TargetAnswerError { get; init; }
@@ -50,6 +59,7 @@ public sealed record LiveQualityStudyResult
     public required IReadOnlyList<DelayAtRunLength> Delays { get; init; }
     public required IReadOnlyList<DelayRatio> Ratios { get; init; }
     public required MixtureSummary Mixture { get; init; }
+    public required ItemAwareSummary ItemAware { get; init; }
     public required IReadOnlyList<RefresherSummary> Refreshers { get; init; }
     public required LiveQualityStudyOptions Options { get; init; }
 }

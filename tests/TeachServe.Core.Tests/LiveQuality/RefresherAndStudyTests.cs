@@ -105,6 +105,15 @@ public sealed class RefresherAndStudyTests(SeedModels seeds) : IClassFixture<See
         Assert.Equal(0, clicker.UnderTarget);
         var shortcut = one.Refreshers.Single(r => r.Scenario == "shortcut rule");
         Assert.True(shortcut.MedianItems <= 10);
+
+        // The deployed item-aware chart, calibrated on other simulated annotators, keeps its ARL0 on the study's own
+        // stable annotators within 4 combined standard errors.
+        var itemAware = one.ItemAware;
+        var calibration = itemAware.Design.Calibration!;
+        Assert.Equal(200, calibration.TargetRunLength);
+        var combined = Math.Sqrt(Math.Pow(calibration.StandardError, 2) + Math.Pow(itemAware.MeasuredStandardError, 2));
+        Assert.InRange(itemAware.MeasuredRunLength, calibration.InControlRunLength - (4 * combined), calibration.InControlRunLength + (4 * combined));
+        Assert.Contains(one.Ratios, r => r.Monitor == MonitorNames.ItemAwareCusum && r.Scenario == "random answers" && r.Ratio < 1);
     }
 
     [Fact]
@@ -115,11 +124,16 @@ public sealed class RefresherAndStudyTests(SeedModels seeds) : IClassFixture<See
         Assert.Contains("count CUSUM designs", output, StringComparison.Ordinal);
         Assert.Contains("| shortcut rule | 100 |", output, StringComparison.Ordinal);
         Assert.Contains("refreshers at the first alarm", output, StringComparison.Ordinal);
+        Assert.Contains("item-aware CUSUM: alternatives rules near target, random answers", output, StringComparison.Ordinal);
+        Assert.Contains("| item-aware / window |", output, StringComparison.Ordinal);
         Assert.Contains("true 0.02/check: fitted", output, StringComparison.Ordinal);
 
         var bad = CliRun.Run("live-quality", CliRun.Seed("weld-seams"), "--drift", "0.05");
         Assert.NotEqual(0, bad.Code);
         Assert.Contains("--drift", bad.Error, StringComparison.Ordinal);
+        var unknown = CliRun.Run("live-quality", CliRun.Seed("weld-seams"), "--item-alternatives", "above,sideways");
+        Assert.NotEqual(0, unknown.Code);
+        Assert.Contains("--item-alternatives", unknown.Error, StringComparison.Ordinal);
         Assert.NotEqual(0, CliRun.Run("live-quality").Code);
     }
 }
