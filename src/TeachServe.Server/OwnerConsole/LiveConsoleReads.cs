@@ -46,6 +46,13 @@ public static class LiveConsoleReads
         return new LiveQualityTable(byStatus, status, page, matching, rows.Select(LiveQualityOperations.View).ToList());
     }
 
+    /// <summary>The project's newest <see cref="Rows"/> refresher sessions, newest first.</summary>
+    public static async Task<List<LiveRefresherRow>> RefreshersAsync(TeachServeDb db, string projectId, CancellationToken ct) =>
+        await db.RefresherStarts.AsNoTracking().Where(r => r.ProjectId == projectId)
+            .Join(db.Sessions, r => r.SessionId, s => s.Id, (r, s) => new LiveRefresherRow(
+                s.Id, s.WorkerRef, s.CreatedAt, s.EndedAt, s.IsActive, s.Phase, s.TaughtCount, r.MaxItems, s.TestAnswered, r.LiveChecks, r.AppliedAt))
+            .OrderByDescending(r => r.StartedAt).ThenByDescending(r => r.SessionId).Take(Rows).ToListAsync(ct);
+
     /// <summary>One annotator's live view; 404 when they have no live checks.</summary>
     public static async Task<Outcome<LiveAnnotatorDetail>> DetailAsync(
         TeachServeDb db, LiveQualityOperations live, ModelVersionCache versions, LiveMonitors monitors,
