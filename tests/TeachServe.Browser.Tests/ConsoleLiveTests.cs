@@ -93,9 +93,11 @@ public sealed class ConsoleLiveTests(ServerFixture fixture) : IClassFixture<Serv
         foreach (var w in new[] { "rider-dee", "rider-eve" }) await ReleaseAsync(keys, w);
         using (var embed = fixture.Api(keys["embedKey"]!.GetValue<string>()))
         {
+            // Answered after the release (the server's clock), so they move the belief dee's refresher starts from.
+            var after = DateTimeOffset.UtcNow.AddMinutes(1);
             var outcomes = Enumerable.Range(0, 5).Select(n => new
             {
-                outcomeId = $"d{n}", workerRef = "rider-dee", itemId = $"t{n:00}", label = Truth(n), answeredAt = Start.AddMinutes(n),
+                outcomeId = $"d{n}", workerRef = "rider-dee", itemId = $"t{n:00}", label = Truth(n), answeredAt = after.AddSeconds(n),
             });
             var posted = await embed.PostAsJsonAsync($"/api/v1/projects/{keys["projectId"]}/live-checks", new { outcomes });
             Assert.True(posted.IsSuccessStatusCode, await posted.Content.ReadAsStringAsync());
