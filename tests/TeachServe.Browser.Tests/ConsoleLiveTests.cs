@@ -60,13 +60,19 @@ public sealed class ConsoleLiveTests(ServerFixture fixture) : IClassFixture<Serv
     }
 
     /// <summary>Onboards <paramref name="workerRef"/> through the session API, answering every item right.</summary>
-    private async Task ReleaseAsync(JsonObject keys, string workerRef)
+    private Task ReleaseAsync(JsonObject keys, string workerRef) => RunSessionAsync(keys, workerRef, "onboarding", 100);
+
+    /// <summary>Starts a session of <paramref name="purpose"/> and answers up to <paramref name="answers"/> items right; fails the test if it fails.</summary>
+    private async Task RunSessionAsync(JsonObject keys, string workerRef, string purpose, int answers)
     {
         using var embed = fixture.Api(keys["embedKey"]!.GetValue<string>());
-        var started = (await (await embed.PostAsJsonAsync($"/api/v1/projects/{keys["projectId"]}/sessions", new { workerRef })).Content.ReadFromJsonAsync<JsonObject>())!;
+        var response = await embed.PostAsJsonAsync($"/api/v1/projects/{keys["projectId"]}/sessions", new { workerRef, purpose });
+        Assert.True(response.IsSuccessStatusCode, await response.Content.ReadAsStringAsync());
+        var started = (await response.Content.ReadFromJsonAsync<JsonObject>())!;
         var sessionId = started["sessionId"]!.GetValue<string>();
         using var annotator = fixture.Api(started["token"]!.GetValue<string>());
-        for (var i = 0; i < 100; i++)
+        if (answers == 0) return;
+        for (var i = 0; i < answers; i++)
         {
             var next = (await annotator.GetFromJsonAsync<JsonObject>($"/api/v1/sessions/{sessionId}/next"))!;
             var item = next["item"]!;
@@ -78,6 +84,64 @@ public sealed class ConsoleLiveTests(ServerFixture fixture) : IClassFixture<Serv
             if (phase == "released") return;
         }
         Assert.Fail($"{workerRef} was not released");
+    }
+
+    [Fact]
+    public async Task The_live_page_lists_refreshers_with_who_when_how_they_ended_items_taught_and_the_check()
+    {
+        var keys = await ProjectAsync();
+        foreach (var w in new[] { "rider-dee", "rider-eve" }) await ReleaseAsync(keys, w);
+        using (var embed = fixture.Api(keys["embedKey"]!.GetValue<string>()))
+        {
+            // Answered after the release (the server's clock), so they move the belief dee's refresher starts from.
+            var after = DateTimeOffset.UtcNow.AddMinutes(1);
+            var outcomes = Enumerable.Range(0, 5).Select(n => new
+            {
+                outcomeId = $"d{n}", workerRef = "rider-dee", itemId = $"t{n:00}", label = Truth(n), answeredAt = after.AddSeconds(n),
+            });
+            var posted = await embed.PostAsJsonAsync($"/api/v1/projects/{keys["projectId"]}/live-checks", new { outcomes });
+            Assert.True(posted.IsSuccessStatusCode, await posted.Content.ReadAsStringAsync());
+        }
+        // dee takes a refresher and passes its check; eve's is started and left open.
+        await RunSessionAsync(keys, "rider-dee", "refresher", 100);
+        await RunSessionAsync(keys, "rider-eve", "refresher", 0);
+
+        var page = await fixture.NewPageAsync(1280, 800);
+        await page.GotoAsync(fixture.Server.BaseUrl + "/console");
+        await page.GetByLabel("Owner key").FillAsync(keys["ownerKey"]!.GetValue<string>());
+        await page.GetByRole(AriaRole.Button, new() { Name = "Sign in" }).ClickAsync();
+        await page.GetByRole(AriaRole.Link, new() { Name = "Live quality" }).ClickAsync();
+        await page.GetByRole(AriaRole.Heading, new() { Name = "Refreshers" }).WaitForAsync();
+
+        var rows = page.Locator("table.refreshers tbody tr");
+        Assert.Equal(2, await rows.CountAsync());
+        var dee = await rows.Filter(new() { HasText = "rider-dee" }).Locator("td").AllInnerTextsAsync();
+        Assert.StartsWith("ended ", dee[2], StringComparison.Ordinal);
+        Assert.DoesNotContain("not updated", dee[2], StringComparison.Ordinal);
+        Assert.Matches(@"^\d+ of 10$", dee[3]);
+        Assert.Matches(@"^passed [1-9]\d* answered$", dee[4]);
+        Assert.Equal("5", dee[5]);
+        var eve = await rows.Filter(new() { HasText = "rider-eve" }).Locator("td").AllInnerTextsAsync();
+        Assert.Equal("in progress: teaching", eve[2]);
+        Assert.Equal("0 of 10", eve[3]);
+        Assert.Equal("pending 0 answered", eve[4]);
+        Assert.Equal("0", eve[5]);
+        // The newest first: eve's was started after dee's had ended.
+        Assert.Equal("rider-eve", await rows.First.Locator("td.worker").InnerTextAsync());
+        // dee's status after passing: reliable, in the annotators' table above.
+        Assert.Equal("reliable", await page.Locator("table.live-quality tbody tr", new() { HasText = "rider-dee" }).Locator("td:nth-child(2)").InnerTextAsync());
+        await page.Locator("#refreshers-heading").ScrollIntoViewIfNeededAsync();
+        await Browser.ShotAsync(page, "console-24-live-refreshers");
+
+        // The start time links to the refresher's session page.
+        await rows.Filter(new() { HasText = "rider-dee" }).Locator("td:nth-child(2) a").ClickAsync();
+        await page.WaitForURLAsync("**/console/sessions/**");
+
+        await page.SetViewportSizeAsync(390, 844);
+        await page.GotoAsync(fixture.Server.BaseUrl + "/console/live");
+        Assert.True(await page.EvaluateAsync<bool>("() => document.documentElement.scrollWidth <= window.innerWidth"), "the live page is wider than the phone");
+        await page.Locator("#refreshers-heading").ScrollIntoViewIfNeededAsync();
+        await Browser.ShotAsync(page, "console-25-phone-live-refreshers");
     }
 
     [Fact]

@@ -70,6 +70,11 @@ public sealed partial class LiveCheckWriter(IServiceScopeFactory scopes, ILogger
         for (var i = 0; i < group.Count; i++) group[i].Done.TrySetResult(results[i]);
     }
 
+    /// <summary>
+    /// Stores one batch in a transaction of its own, up to <see cref="Attempts"/> times. When the database stays busy,
+    /// locked or unreachable (or a concurrent writer keeps refusing the commit), the batch ends in 503 with Retry-After:
+    /// its transaction was rolled back, so the client may send it again with the same outcome ids.
+    /// </summary>
     private void WriteAlone(PendingLiveChecks one)
     {
         for (var attempt = 1; ; attempt++)
@@ -79,8 +84,12 @@ public sealed partial class LiveCheckWriter(IServiceScopeFactory scopes, ILogger
                 one.Done.TrySetResult(StoreTogether([one])[0]);
                 return;
             }
-            catch (DbUpdateException) when (attempt < Attempts)
+            catch (Exception e) when (e is DbUpdateException || DatabaseUnavailable.Is(e))
             {
+                if (attempt < Attempts) continue;
+                LogGaveUp(logger, one.Lines.Count, Attempts, e.GetBaseException().Message);
+                one.Done.TrySetResult(Unavailable());
+                return;
             }
             catch (Exception e)
             {
@@ -89,6 +98,12 @@ public sealed partial class LiveCheckWriter(IServiceScopeFactory scopes, ILogger
             }
         }
     }
+
+    /// <summary>The answer to a batch the database would not take: nothing of it was stored (the endpoint adds Retry-After).</summary>
+    internal static Microsoft.AspNetCore.Http.HttpResults.ProblemHttpResult Unavailable() =>
+        Problems.Of(StatusCodes.Status503ServiceUnavailable, Problems.Titles.DatabaseUnavailable,
+            "The database did not take this batch in time (busy, locked or unreachable); nothing of it was stored. " +
+            "Send it again after Retry-After with the same outcome ids.");
 
     /// <summary>A fresh scope (and context) per transaction: nothing tracked survives a failed one.</summary>
     private IReadOnlyList<Outcome<LiveChecksStored>> StoreTogether(IReadOnlyList<PendingLiveChecks> group)
@@ -101,6 +116,9 @@ public sealed partial class LiveCheckWriter(IServiceScopeFactory scopes, ILogger
     /// <summary>Timing log for profiling: <c>Logging__LogLevel__TeachServe.Server.LiveQuality.LiveCheckWriter=Debug</c>.</summary>
     [LoggerMessage(Level = LogLevel.Debug, Message = "Stored a group of {Count} batches ({Outcomes} outcomes) in {Milliseconds:0.0} ms")]
     private static partial void LogGroup(ILogger logger, int count, int outcomes, double milliseconds);
+
+    [LoggerMessage(Level = LogLevel.Warning, Message = "A batch of {Outcomes} live-check outcomes failed {Attempts} times and was answered 503: {Reason}")]
+    private static partial void LogGaveUp(ILogger logger, int outcomes, int attempts, string reason);
 
     [LoggerMessage(Level = LogLevel.Warning, Message = "A group of {Count} live-check batches failed; storing them one by one")]
     private static partial void LogGroupFailed(ILogger logger, int count, Exception exception);

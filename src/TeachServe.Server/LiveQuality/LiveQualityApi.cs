@@ -2,6 +2,7 @@ using System.ComponentModel;
 using Microsoft.AspNetCore.Http.HttpResults;
 using TeachServe.Server.Auth;
 using TeachServe.Server.Contract;
+using TeachServe.Server.Infrastructure;
 
 namespace TeachServe.Server.LiveQuality;
 
@@ -25,8 +26,14 @@ public static class LiveQualityApi
     }
 
     public static async Task<Results<Ok<LiveChecksStored>, ProblemHttpResult>> PostLiveChecks(
-        string projectId, LiveChecksRequest body, LiveQualityOperations live, CancellationToken ct) =>
-        (await live.PostAsync(projectId, body, ct)).Answer(TypedResults.Ok);
+        string projectId, LiveChecksRequest body, LiveQualityOperations live, HttpResponse response, CancellationToken ct)
+    {
+        var outcome = await live.PostAsync(projectId, body, ct);
+        // The writer answers 503 when the database would not take the batch; the client retries it unchanged.
+        if (outcome.Problem?.StatusCode == StatusCodes.Status503ServiceUnavailable)
+            response.Headers.RetryAfter = ((int)DatabaseUnavailable.RetryAfter.TotalSeconds).ToString(System.Globalization.CultureInfo.InvariantCulture);
+        return outcome.Answer(TypedResults.Ok);
+    }
 
     public static async Task<Results<Ok<LiveQualityView>, ProblemHttpResult>> ListLiveQuality(
         string projectId,

@@ -64,7 +64,13 @@ public sealed class LiveQualityOperations(
         var workers = outcomes.Select(o => o.WorkerRef).Distinct(StringComparer.Ordinal).ToList();
         var itemIds = outcomes.Select(o => o.ItemId).Distinct(StringComparer.Ordinal).ToList();
         // The latest release of each worker: a monitor continues from the session that released them last.
-        var releases = (await db.Releases.AsNoTracking().Where(r => r.ProjectId == projectId && workers.Contains(r.WorkerRef)).ToListAsync(ct))
+        // Only the columns the monitor needs: the evidence JSON (kilobytes per release) is never read here.
+        var releases = (await db.Releases.AsNoTracking().Where(r => r.ProjectId == projectId && workers.Contains(r.WorkerRef))
+                .Select(r => new Releases.Release
+                {
+                    Id = r.Id, ProjectId = r.ProjectId, SessionId = r.SessionId, WorkerRef = r.WorkerRef, ModelVersion = r.ModelVersion,
+                    ReleasedAt = r.ReleasedAt, EvidenceJson = string.Empty,
+                }).ToListAsync(ct))
             .GroupBy(r => r.WorkerRef, StringComparer.Ordinal).ToDictionary(g => g.Key, g => g.MaxBy(r => r.Id)!, StringComparer.Ordinal);
         var known = await db.Items.AsNoTracking().Where(i => i.ProjectId == projectId && itemIds.Contains(i.ItemId))
             .ToDictionaryAsync(i => i.ItemId, i => i.Label, StringComparer.Ordinal, ct);
@@ -136,14 +142,19 @@ public sealed class LiveQualityOperations(
     /// content (or in another pool) adds a 409 line to <paramref name="conflicts"/>. 422 when the project would hold more
     /// items than it may.
     /// </summary>
+    /// <param name="addedByGroup">Items an earlier batch of the same transaction adds, by (project, item id), as
+    /// their JSON: a later batch carrying one of them treats it as stored (it is, at the commit).</param>
     private async Task<Outcome<List<Item>>> NewLiveItemsAsync(
-        string projectId, IReadOnlyList<ValidLine> batch, List<LiveCheckError> conflicts, CancellationToken ct)
+        string projectId, IReadOnlyList<ValidLine> batch, List<LiveCheckError> conflicts,
+        Dictionary<(string, string), string> addedByGroup, CancellationToken ct)
     {
         var carried = batch.Where(l => l.Inline is not null).DistinctBy(l => l.Inline!.Id, StringComparer.Ordinal).ToList();
         if (carried.Count == 0) return new List<Item>();
         var ids = carried.Select(l => l.Inline!.Id).ToList();
         var stored = await db.Items.AsNoTracking().Where(i => i.ProjectId == projectId && ids.Contains(i.ItemId))
             .ToDictionaryAsync(i => i.ItemId, i => i.Json, StringComparer.Ordinal, ct);
+        foreach (var id in ids)
+            if (addedByGroup.TryGetValue((projectId, id), out var added)) stored.TryAdd(id, added);
         var now = time.GetUtcNow();
         var rows = new List<Item>();
         foreach (var line in carried)
@@ -157,7 +168,7 @@ public sealed class LiveQualityOperations(
         if (rows.Count > 0)
         {
             var limit = options.Value.Uploads.MaxItemsPerProject;
-            var count = await db.Items.CountAsync(i => i.ProjectId == projectId, ct);
+            var count = await db.Items.CountAsync(i => i.ProjectId == projectId, ct) + addedByGroup.Keys.Count(k => k.Item1 == projectId);
             if (count + rows.Count > limit)
                 return Problems.Unprocessable($"A project may hold at most {limit} items; this batch's items would make {count + rows.Count}. Nothing was stored.");
         }
@@ -185,6 +196,7 @@ public sealed class LiveQualityOperations(
         var accepted = new List<(int Batch, List<(ValidLine Line, LiveCheckRecord Row)> Fresh, int ItemsStored)>();
         var projects = new Dictionary<string, Project>(StringComparer.Ordinal);
         var webhooks = 0;
+        var itemsAdded = new Dictionary<(string, string), string>();
         for (var b = 0; b < group.Count; b++)
         {
             var projectId = group[b].ProjectId;
@@ -197,7 +209,7 @@ public sealed class LiveQualityOperations(
                          || earlier.Label != line.Input.Label || earlier.AnsweredAt != line.AnsweredAt)
                     conflicts.Add(new(line.Index, "outcomeId", "An outcome with this id was stored earlier with a different body."));
             }
-            var newItems = await NewLiveItemsAsync(projectId, group[b].Lines, conflicts, ct);
+            var newItems = await NewLiveItemsAsync(projectId, group[b].Lines, conflicts, itemsAdded, ct);
             if (!newItems.Succeeded)
             {
                 results[b] = newItems.Problem;
@@ -209,9 +221,10 @@ public sealed class LiveQualityOperations(
                     new Dictionary<string, object?> { ["errors"] = conflicts.OrderBy(c => c.Index).ToList() });
                 continue;
             }
-            // Items carried inline go in with the batch (SaveChanges, in this transaction); two batches of the group
-            // carrying the same new item make the commit fail, and the writer then stores each batch on its own.
+            // Items carried inline go in with the batch (SaveChanges, in this transaction), once for the group: a later
+            // batch carrying the same new item finds it in itemsAdded and stores only its outcomes.
             db.Items.AddRange(newItems.Value);
+            foreach (var item in newItems.Value) itemsAdded[(item.ProjectId, item.ItemId)] = item.Json;
             var rows = fresh.Select(l => new LiveCheckRecord
             {
                 ProjectId = projectId, OutcomeId = l.Input.OutcomeId, WorkerRef = l.Input.WorkerRef, ItemId = l.Input.ItemId,

@@ -46,7 +46,8 @@ public static class LiveConsoleEndpoints
         var project = await ConsoleAuth.CurrentAsync(http, db, ct);
         if (project is null) return Results.Redirect("/console");
         var table = await LiveConsoleReads.TableAsync(db, refreshers, project.Id, http.Request.Query["status"], PageNumber(http), ct);
-        var model = new LiveQualityModel(project.Id, project.Name, ConsoleEndpoints.Token(http, forms), time.GetUtcNow(), table);
+        var refresherRows = await LiveConsoleReads.RefreshersAsync(db, project.Id, ct);
+        var model = new LiveQualityModel(project.Id, project.Name, ConsoleEndpoints.Token(http, forms), time.GetUtcNow(), table, refresherRows);
         return ConsoleEndpoints.Render<LiveQualityPage, LiveQualityModel>(http, model, StatusCodes.Status200OK);
     }
 

@@ -3,7 +3,16 @@ using TeachServe.Server.LiveQuality;
 namespace TeachServe.Server.OwnerConsole;
 
 /// <summary>The live-quality page: annotators counted by status, and one page of the table (optionally one status only).</summary>
-public sealed record LiveQualityModel(string ProjectId, string ProjectName, string FormToken, DateTimeOffset AsOf, LiveQualityTable Table);
+public sealed record LiveQualityModel(string ProjectId, string ProjectName, string FormToken, DateTimeOffset AsOf, LiveQualityTable Table,
+    IReadOnlyList<LiveRefresherRow> Refreshers);
+
+/// <summary>One refresher session of the project (newest first on the page): who, when, how far it got and how its check ended.</summary>
+/// <param name="Phase">The session's phase: teaching or testing while it runs; released (check passed) or failed once ended.</param>
+/// <param name="LiveChecks">Live checks that moved the belief it started from.</param>
+/// <param name="AppliedAt">When the annotator's live monitor took in how it ended; null until then.</param>
+public sealed record LiveRefresherRow(
+    string SessionId, string WorkerRef, DateTimeOffset StartedAt, DateTimeOffset? EndedAt, bool IsActive, string Phase,
+    int TaughtCount, int MaxItems, int TestAnswered, int LiveChecks, DateTimeOffset? AppliedAt);
 
 /// <summary>
 /// One page of the monitored annotators, the most urgent status first, then by worker ref.

@@ -46,6 +46,16 @@ public static class LiveConsoleReads
         return new LiveQualityTable(byStatus, status, page, matching, rows.Select(LiveQualityOperations.View).ToList());
     }
 
+    /// <summary>The project's newest <see cref="Rows"/> refresher sessions, newest first.</summary>
+    public static async Task<List<LiveRefresherRow>> RefreshersAsync(TeachServeDb db, string projectId, CancellationToken ct) =>
+        await db.RefresherStarts.AsNoTracking().Where(r => r.ProjectId == projectId)
+            .Join(db.Sessions, r => r.SessionId, s => s.Id, (r, s) => new { Start = r, Session = s })
+            .OrderByDescending(x => x.Session.CreatedAt).ThenByDescending(x => x.Session.Id).Take(Rows)
+            .Select(x => new LiveRefresherRow(
+                x.Session.Id, x.Session.WorkerRef, x.Session.CreatedAt, x.Session.EndedAt, x.Session.IsActive, x.Session.Phase,
+                x.Session.TaughtCount, x.Start.MaxItems, x.Session.TestAnswered, x.Start.LiveChecks, x.Start.AppliedAt))
+            .ToListAsync(ct);
+
     /// <summary>One annotator's live view; 404 when they have no live checks.</summary>
     public static async Task<Outcome<LiveAnnotatorDetail>> DetailAsync(
         TeachServeDb db, LiveQualityOperations live, ModelVersionCache versions, LiveMonitors monitors,

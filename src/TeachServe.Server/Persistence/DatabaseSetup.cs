@@ -76,7 +76,15 @@ public static class PersistenceExtensions
 /// </summary>
 public sealed class SqliteDurability : DbConnectionInterceptor
 {
-    public const string Pragma = "PRAGMA synchronous=FULL; PRAGMA busy_timeout=30000; PRAGMA secure_delete=ON;";
+    /// <summary>
+    /// The pragmas of a new physical connection. The busy timeout is the connection string's <c>Default Timeout</c>
+    /// (30 s in the server's own connection string), so a configured shorter wait is honoured here too.
+    /// </summary>
+    public static string Pragma(DbConnection connection) =>
+        $"PRAGMA synchronous=FULL; PRAGMA busy_timeout={BusyMilliseconds(connection)}; PRAGMA secure_delete=ON;";
+
+    private static int BusyMilliseconds(DbConnection connection) =>
+        connection is SqliteConnection { DefaultTimeout: > 0 and var seconds } ? Math.Min(seconds, int.MaxValue / 1000) * 1000 : 30_000;
 
     /// <summary>
     /// Physical connections already set up. The provider pools them and EF opens one for every query, so the
@@ -89,7 +97,7 @@ public sealed class SqliteDurability : DbConnectionInterceptor
     {
         if (!NeedsSetup(connection)) return;
         using var command = connection.CreateCommand();
-        command.CommandText = Pragma;
+        command.CommandText = Pragma(connection);
         command.ExecuteNonQuery();
     }
 
@@ -97,7 +105,7 @@ public sealed class SqliteDurability : DbConnectionInterceptor
     {
         if (!NeedsSetup(connection)) return;
         await using var command = connection.CreateCommand();
-        command.CommandText = Pragma;
+        command.CommandText = Pragma(connection);
         await command.ExecuteNonQueryAsync(cancellationToken);
     }
 
