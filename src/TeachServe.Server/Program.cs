@@ -115,6 +115,7 @@ builder.Services.AddSingleton<LiveMonitors>();
 builder.Services.AddSingleton<LiveCheckWriter>();
 builder.Services.AddHostedService(sp => sp.GetRequiredService<LiveCheckWriter>());
 builder.Services.AddScoped<LiveQualityOperations>();
+builder.Services.AddScoped<ForgettingFitOperations>();
 builder.Services.AddScoped<Refreshers>();
 builder.Services.AddAnnotatePage();
 builder.Services.AddOwnerConsole();

@@ -194,6 +194,15 @@ public sealed class ConsoleLiveTests(ServerFixture fixture) : IClassFixture<Serv
         Assert.True(await plot.EvaluateAsync<bool>("img => img.complete && img.naturalWidth > 0"), "the picture did not load");
         Assert.Contains("drift alarm", await page.Locator(".live-changes").InnerTextAsync(), StringComparison.Ordinal);
         Assert.True(await page.Locator("table.live-outcomes .alarm").CountAsync() >= 1);
+        // The model view beside the count view: its figure, whether the views agree, its likely confusions by label name,
+        // and the views that caused each status change.
+        var modelCard = await page.Locator(".card:has(h2:text-is('Model view'))").InnerTextAsync();
+        Assert.Contains("predicted answer error", modelCard, StringComparison.Ordinal);
+        Assert.Contains("agree", modelCard, StringComparison.Ordinal);
+        var confusions = await page.Locator("table.live-confusions td:nth-child(1)").AllInnerTextsAsync();
+        Assert.NotEmpty(confusions);
+        Assert.All(confusions, label => Assert.Contains(label, new[] { "sound", "defect" }));
+        Assert.Contains("views: ", await page.Locator(".live-changes").InnerTextAsync(), StringComparison.Ordinal);
         await Browser.ShotAsync(page, "console-21-live-annotator");
         await page.Locator(".live-plot").ScreenshotAsync(new() { Path = Path.Combine(Browser.ScreenshotDirectory, "console-21-live-plot.png") });
 

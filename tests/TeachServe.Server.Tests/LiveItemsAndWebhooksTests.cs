@@ -347,7 +347,10 @@ public sealed class LiveItemsAndWebhooksTests
         {
             var a = await HistoryAsync(concurrent, keys, w);
             var s = await HistoryAsync(sequential, seqKeys, w);
-            foreach (var field in new[] { "status", "checks", "errors", "alarms", "lastAlarmAt", "lastAlarm", "lastAnsweredAt" })
+            // Across the two servers only what does not depend on the release sessions (whose seeds are random): the model
+            // view and the candidate rules start from each release's belief, so status and alarms are compared below
+            // within each server, against a sequential replay of its own log.
+            foreach (var field in new[] { "checks", "errors", "lastAnsweredAt" })
                 Assert.Equal(s["annotator"]![field]?.ToJsonString(), a["annotator"]![field]?.ToJsonString());
             var order = a["outcomes"]!.AsArray().Select(o => o!["outcomeId"]!.GetValue<string>()).ToList();
             Assert.Equal(s["outcomes"]!.AsArray().Select(o => o!["outcomeId"]!.GetValue<string>()), order);
@@ -355,7 +358,27 @@ public sealed class LiveItemsAndWebhooksTests
             var times = a["outcomes"]!.AsArray().Select(o => o!["answeredAt"]!.GetValue<DateTimeOffset>()).ToList();
             Assert.Equal(times.Order(), times);
         }
-        Assert.Equal(await StatesAsync(sequential, seqKeys.ProjectId), await StatesAsync(concurrent, keys.ProjectId));
+        Assert.Equal(await ReplayedStatesAsync(sequential, seqKeys.ProjectId), await StatesAsync(sequential, seqKeys.ProjectId));
+        Assert.Equal(await ReplayedStatesAsync(concurrent, keys.ProjectId), await StatesAsync(concurrent, keys.ProjectId));
+    }
+
+    /// <summary>
+    /// Each monitor's state, model view and counts as a sequential replay of its stored outcomes gives them (no refreshers
+    /// here), in the form of <see cref="StatesAsync"/>.
+    /// </summary>
+    private static async Task<List<string>> ReplayedStatesAsync(TestApp app, string projectId)
+    {
+        using var scope = app.Services.CreateScope();
+        var db = scope.ServiceProvider.GetRequiredService<TeachServeDb>();
+        var live = scope.ServiceProvider.GetRequiredService<LiveQuality.LiveQualityOperations>();
+        var rows = await db.LiveMonitors.AsNoTracking().Where(m => m.ProjectId == projectId).OrderBy(m => m.WorkerRef).ToListAsync();
+        var states = new List<string>();
+        foreach (var m in rows)
+        {
+            var last = (await live.ReplayAsync(m, CancellationToken.None)).Points[^1];
+            states.Add($"{m.WorkerRef}:{Convert.ToHexString(last.Step.State.ToBytes())}:{last.ModelError:R}");
+        }
+        return states;
     }
 
     /// <summary>Each monitor's state bytes, by worker: equal bytes mean the same chart values, counts and status.</summary>
@@ -364,6 +387,6 @@ public sealed class LiveItemsAndWebhooksTests
         using var scope = app.Services.CreateScope();
         var db = scope.ServiceProvider.GetRequiredService<TeachServeDb>();
         var rows = await db.LiveMonitors.AsNoTracking().Where(m => m.ProjectId == projectId).OrderBy(m => m.WorkerRef).ToListAsync();
-        return rows.Select(m => $"{m.WorkerRef}:{Convert.ToHexString(m.State)}").ToList();
+        return rows.Select(m => $"{m.WorkerRef}:{Convert.ToHexString(m.State)}:{m.ModelError:R}").ToList();
     }
 }

@@ -191,8 +191,15 @@ public sealed class LiveQualityTests
         var ordered = (await HistoryAsync(app, keys, "ordered"))["annotator"]!;
         var late = (await HistoryAsync(app, keys, "late"))["annotator"]!;
         Assert.Equal(0, ordered["alarms"]!.GetValue<int>());
-        foreach (var field in new[] { "status", "checks", "errors", "alarms" })
+        foreach (var field in new[] { "status", "checks", "errors", "alarms", "countView" })
             Assert.Equal(ordered[field]!.ToJsonString(), late[field]!.ToJsonString());
+        // The model view too (each worker's from their own release belief): the stored view, moved batch by batch or
+        // rebuilt, equals the replay of the log to the last bit.
+        foreach (var worker in new[] { "ordered", "late" })
+        {
+            var history = await HistoryAsync(app, keys, worker);
+            Assert.Equal(history["outcomes"]!.AsArray()[^1]!["modelPredictedError"]!.ToJsonString(), history["annotator"]!["modelPredictedError"]!.ToJsonString());
+        }
         Assert.Equal(20, late["checks"]!.GetValue<int>());
         Assert.Equal(5, late["errors"]!.GetValue<int>());
     }
@@ -207,6 +214,13 @@ public sealed class LiveQualityTests
         await Api.JsonAsync(await PostAsync(app, keys,
             Outcome("g1", "gone", 1, "defect", 1), Outcome("g2", "gone", 2, "defect", 2), Outcome("k1", "kept", 1, "sound", 1)), 200);
 
+        using (var before = app.Services.CreateScope())
+        {
+            // The model view's belief is stored per annotator, in the monitor row that erasure deletes.
+            var monitor = await before.ServiceProvider.GetRequiredService<TeachServeDb>().LiveMonitors.AsNoTracking().FirstAsync(m => m.WorkerRef == "gone");
+            Assert.NotNull(monitor.Belief);
+            Assert.NotNull(monitor.ModelError);
+        }
         var erased = await Api.JsonAsync(await app.Client(keys.OwnerKey).DeleteAsync($"/api/v1/projects/{keys.ProjectId}/workers/gone"), 200);
         Assert.Equal(2, erased["liveChecks"]!.GetValue<int>());
 

@@ -59,6 +59,18 @@ public sealed class LiveBelief
     /// <summary>Live checks observed.</summary>
     public int Checks { get; private set; }
 
+    /// <summary>
+    /// A belief saved from <see cref="Weights"/>, taken back bit for bit (not normalised again), so that continuing it
+    /// gives exactly the numbers of a belief that was never saved: a server may store it between batches or rebuild it
+    /// from the log, interchangeably.
+    /// </summary>
+    public static LiveBelief Restore(ModelVersion model, double lapse, ReadOnlySpan<double> weights, ForgettingRate rate, int checks = 0)
+    {
+        var belief = new LiveBelief(model, lapse, weights, rate) { Checks = checks };
+        weights.CopyTo(belief._weights);
+        return belief;
+    }
+
     public LiveBelief Clone()
     {
         var copy = new LiveBelief(_model, Lapse, _weights, Rate) { Checks = Checks };

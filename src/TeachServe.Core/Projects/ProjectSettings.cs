@@ -20,6 +20,37 @@ public sealed record ProjectSettings
     public GuidanceSettings? Guidance { get; init; }
     /// <summary>What onboarding costs the platform, for comparing gates and policies by cost per qualified release.</summary>
     public CostSettings Cost { get; init; } = new();
+    /// <summary>How released annotators are watched (docs/live-quality.md).</summary>
+    public LiveSettings Live { get; init; } = new();
+}
+
+/// <summary>
+/// The model view of released annotators: how fast their rule drifts back to the prior between live checks, and how
+/// many candidate shortcut rules get their own drift chart. Read when live checks are applied, so a change reaches every
+/// annotator at their next batch (their view is then rebuilt from the log with the new rate).
+/// </summary>
+public sealed record LiveSettings
+{
+    /// <summary>Largest per-check forgetting rate accepted (a fitted rate is searched on [0, 0.5]).</summary>
+    public const double MaxForgettingPerCheck = 0.5;
+
+    /// <summary>Largest number of candidate-rule charts per annotator.</summary>
+    public const int MaxCandidateRules = 10;
+
+    /// <summary>
+    /// Probability per live check that the annotator falls back to a rule drawn from the prior, in [0, 0.5]. The default
+    /// 0.005 (a half-life of about 140 checks) is a guess to be replaced by the project's own fit
+    /// (<c>POST .../live-quality/forgetting-fit</c>): small enough that a stable annotator's correct answers hold the
+    /// belief near the taught rule.
+    /// </summary>
+    public double ForgettingPerCheck { get; init; } = 0.005;
+
+    /// <summary>
+    /// Candidate shortcut rules watched per annotator, chosen at release (0 turns the charts off). Three: the design notes
+    /// measured 0.62–0.67 of the window rule's delay with 10 candidates and 0.72–0.80 with 50, so fewer, better-chosen
+    /// candidates are faster, and the annotator's own likely confusions rarely number more than a few.
+    /// </summary>
+    public int CandidateRules { get; init; } = 3;
 }
 
 /// <summary>

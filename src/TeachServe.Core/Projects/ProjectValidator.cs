@@ -56,6 +56,7 @@ public static class ProjectValidator
             Gate(s.Gate);
             Cost(s.Cost);
             Guidance(s.Guidance, s.Labels);
+            Live(s.Live);
             if (Problems.Count == 0 && s.Gate?.Test is not null && s.Labels is { } labels && s.Learner is { } learner)
                 Check("gate.test.maxItems", SettingRules.TestDesign(s.Gate, labels.Count, learner.Lapse));
         }
@@ -386,6 +387,19 @@ public static class ProjectValidator
         {
             if (message is not null)
                 Setting(field, message);
+        }
+
+        private void Live(LiveSettings? live)
+        {
+            if (live is null)
+            {
+                Setting("live", "the live settings are null; leave them out for the defaults");
+                return;
+            }
+            if (!(live.ForgettingPerCheck >= 0 && live.ForgettingPerCheck <= LiveSettings.MaxForgettingPerCheck))
+                Setting("live.forgettingPerCheck", $"must lie in [0, {LiveSettings.MaxForgettingPerCheck}], not {live.ForgettingPerCheck}");
+            if (live.CandidateRules is < 0 or > LiveSettings.MaxCandidateRules)
+                Setting("live.candidateRules", $"must be 0 to {LiveSettings.MaxCandidateRules}, not {live.CandidateRules}");
         }
 
         private void Setting(string field, string message) =>

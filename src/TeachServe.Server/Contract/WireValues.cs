@@ -36,6 +36,8 @@ public sealed class WireValues : IOpenApiSchemaTransformer
             [(typeof(HealthStatus), "status")] = HealthApi.Statuses,
             [(typeof(LiveQuality.LiveAnnotatorView), "status")] = LiveQuality.LiveStatusNames.All,
             [(typeof(LiveQuality.LiveAnnotatorStatus), "status")] = LiveQuality.LiveStatusNames.All,
+            [(typeof(LiveQuality.LiveAnnotatorView), "countView")] =
+                [LiveQuality.LiveViewReadings.Above, LiveQuality.LiveViewReadings.Within, LiveQuality.LiveViewReadings.Undecided],
             [(typeof(Core.Projects.ItemDefinition), "pool")] = [Core.Projects.Pools.Teach, Core.Projects.Pools.Test, Core.Projects.Pools.Live],
             [(typeof(StartSessionRequest), "purpose")] = SessionPurposes.All,
             [(typeof(SessionView), "purpose")] = SessionPurposes.All,

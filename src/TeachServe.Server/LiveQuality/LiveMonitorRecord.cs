@@ -26,6 +26,20 @@ public sealed class LiveMonitorRecord
     public string? LastAlarm { get; set; }
     public DateTimeOffset StartedAt { get; set; }
     public DateTimeOffset UpdatedAt { get; set; }
+    /// <summary>
+    /// The model view: the live belief after the last outcome applied (one little-endian double per hypothesis of the
+    /// version), or null when it restarts from the newest ended session (at the first check, after a refresher).
+    /// Stored because replaying the whole record on every batch would grow with it; a rebuild replays it from the log.
+    /// </summary>
+    public byte[]? Belief { get; set; }
+    /// <summary>The model view's predicted answer error after the last outcome applied; null until it has one.</summary>
+    public double? ModelError { get; set; }
+    /// <summary>The model view's probability that the annotator's rule errs above the gate's target, after the last outcome applied.</summary>
+    public double? ModelRisk { get; set; }
+    /// <summary>The forgetting rate the belief was moved with; when the project's setting differs, the next batch rebuilds.</summary>
+    public double ForgettingPerCheck { get; set; }
+    /// <summary>The target both views are read against: the count chart's in-control answer error.</summary>
+    public double TargetAnswerError { get; set; }
     /// <summary>Optimistic-concurrency token: batches of one worker on two nodes cannot both apply to the same state.</summary>
     public int Revision { get; set; }
 }

@@ -22,8 +22,17 @@ public static class LiveQualityApi
         group.MapGet("/live-quality/{workerRef}", GetLiveQuality).RequireKey(KeyRole.Owner).WithName("getLiveQuality")
             .Problem(StatusCodes.Status404NotFound, "No live checks of this worker in the project.")
             .WithSummary("One annotator's live quality and their outcomes in the order the monitor applied them (the newest 1,000).");
+        group.MapPost("/live-quality/forgetting-fit", FitForgetting).RequireKey(KeyRole.Owner).WithName("fitForgettingRate")
+            .Problem(StatusCodes.Status400BadRequest, "'confidence' is not in [0.5, 0.999].")
+            .Problem(StatusCodes.Status404NotFound, "No such project.")
+            .Problem(StatusCodes.Status422UnprocessableEntity, "Too few live checks on the model's items to fit a rate (at least 100 are needed).")
+            .WithSummary("Fit the project's forgetting rate (live.forgettingPerCheck) from its annotators' live records, with its profile-likelihood interval; 'apply' also stores it.");
         return group;
     }
+
+    public static async Task<Results<Ok<ForgettingFitView>, ProblemHttpResult>> FitForgetting(
+        string projectId, ForgettingFitRequest body, ForgettingFitOperations fits, CancellationToken ct) =>
+        (await fits.FitAsync(projectId, body, ct)).Answer(TypedResults.Ok);
 
     public static async Task<Results<Ok<LiveChecksStored>, ProblemHttpResult>> PostLiveChecks(
         string projectId, LiveChecksRequest body, LiveQualityOperations live, HttpResponse response, CancellationToken ct)

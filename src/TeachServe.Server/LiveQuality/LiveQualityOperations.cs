@@ -195,6 +195,7 @@ public sealed class LiveQualityOperations(
         var results = new Outcome<LiveChecksStored>[group.Count];
         var accepted = new List<(int Batch, List<(ValidLine Line, LiveCheckRecord Row)> Fresh, int ItemsStored)>();
         var projects = new Dictionary<string, Project>(StringComparer.Ordinal);
+        var rates = new Dictionary<string, double>(StringComparer.Ordinal);
         var webhooks = 0;
         var itemsAdded = new Dictionary<(string, string), string>();
         for (var b = 0; b < group.Count; b++)
@@ -247,12 +248,13 @@ public sealed class LiveQualityOperations(
         foreach (var worker in byWorker)
         {
             var release = worker.Select(f => f.Line.Release).MaxBy(r => r.Id)!;
-            var monitor = await MonitorAsync(worker.Key.ProjectId, release, now, ct, loaded.GetValueOrDefault(worker.Key));
+            var rate = await RateAsync(worker.Key.ProjectId);
+            var monitor = await MonitorAsync(worker.Key.ProjectId, release, rate, now, ct, loaded.GetValueOrDefault(worker.Key));
             // A refresher that ended before these outcomes arrived is applied first (it usually was, when it ended).
             await Refreshers.ApplyPendingAsync(db, monitor.Record, now, ct);
             var statusBefore = monitor.Record.Status;
             var log = new ApplyLog();
-            var record = await ApplyAsync(monitor, worker.Select(f => f.Row).ToList(), now, ct, log);
+            var record = await ApplyAsync(monitor, worker.Select(f => f.Row).ToList(), rate, now, ct, log);
             webhooks += LiveStatusWebhooks.Add(db, await ProjectAsync(worker.Key.ProjectId), record, statusBefore, log.Changes, log.Rebuilt, log.Last!, now);
             applied[worker.Key] = new LiveAnnotatorStatus(record.WorkerRef, record.Status, record.Checks);
         }
@@ -271,6 +273,10 @@ public sealed class LiveQualityOperations(
 
         async Task<Project> ProjectAsync(string id) =>
             projects.TryGetValue(id, out var known) ? known : projects[id] = await db.Projects.AsNoTracking().FirstAsync(p => p.Id == id, ct);
+
+        // The project's forgetting rate as of this transaction, read once per project and group.
+        async Task<double> RateAsync(string id) =>
+            rates.TryGetValue(id, out var rate) ? rate : rates[id] = ProjectOperations.Settings(await ProjectAsync(id)).Live.ForgettingPerCheck;
     }
 
     /// <summary>Writes the monitors the group started or moved through the prepared statements; SaveChanges then writes the events.</summary>
@@ -313,17 +319,23 @@ public sealed class LiveQualityOperations(
         return loaded;
     }
 
-    /// <summary>The worker's monitor row; at their first live check, a new one in its start state.</summary>
-    private async Task<(LiveMonitorRecord Record, LiveMonitor Monitor)> MonitorAsync(
-        string projectId, Releases.Release release, DateTimeOffset now, CancellationToken ct, LiveMonitorRecord? loaded = null)
+    /// <summary>
+    /// The worker's monitor row; at their first live check, a new one in its start state: the count chart at zero, the
+    /// model view at the release session's final belief, and the candidate rules chosen from that belief.
+    /// </summary>
+    private async Task<(LiveMonitorRecord Record, LiveModel Live)> MonitorAsync(
+        string projectId, Releases.Release release, double rate, DateTimeOffset now, CancellationToken ct, LiveMonitorRecord? loaded = null)
     {
         var record = loaded ?? await db.LiveMonitors.FirstOrDefaultAsync(m => m.ProjectId == projectId && m.WorkerRef == release.WorkerRef, ct);
         if (record is not null && record.SessionId == release.SessionId)
-            return (record, monitors.For(await versions.GetAsync(projectId, record.ModelVersion, ct)));
+            return (record, monitors.ModelOf(await versions.GetAsync(projectId, record.ModelVersion, ct)));
 
         // First live check, or a later release (a new onboarding) than the one the monitor continued: start afresh.
-        var monitor = monitors.For(await versions.GetAsync(projectId, release.ModelVersion, ct));
-        var start = monitor.Start();
+        var live = monitors.ModelOf(await versions.GetAsync(projectId, release.ModelVersion, ct));
+        var belief = await ReleaseBeliefAsync(live, release.SessionId, rate, ct);
+        var candidates = DriftCandidates.Choose(live.Version.Model, belief.Weights, live.Version.Settings.Gate.TargetError,
+            live.Version.Settings.Live.CandidateRules);
+        var start = live.Monitor.Start(candidates);
         if (record is null)
         {
             record = new LiveMonitorRecord
@@ -344,57 +356,99 @@ public sealed class LiveQualityOperations(
         }
         record.ModelVersion = release.ModelVersion;
         record.LastAnsweredAt = release.ReleasedAt;
-        return (record, monitor);
+        (record.Belief, record.ModelError, record.ModelRisk, record.ForgettingPerCheck) = (RefresherStart.Pack(belief.Weights), null, null, rate);
+        record.TargetAnswerError = live.Monitor.Settings.TargetAnswerError;
+        return (record, live);
     }
 
+    /// <summary>The model view at release: the final belief of the release session, moving with <paramref name="rate"/>.</summary>
+    private async Task<LiveBelief> ReleaseBeliefAsync(LiveModel live, string sessionId, double rate, CancellationToken ct) =>
+        new(live.Version.Model, live.Version.Settings.Learner.Lapse, (await refreshers.EndBeliefAsync(live.Version, sessionId, ct)).Weights,
+            new ForgettingRate(rate));
+
     /// <summary>
-    /// Applies the new outcomes in order. When one was answered before the last outcome already applied, the state is
-    /// rebuilt from every outcome since the release instead (the log is the source of truth). Each status change is an
-    /// event of the project's log.
+    /// Applies the new outcomes in order, to both views: each outcome first moves the model view (forgetting, then the
+    /// answer when the item is one of the model's), whose predicted answer error then goes with the outcome to the
+    /// monitor (<see cref="LiveMonitor.Apply"/>: above target it puts the annotator on watch). When one was answered before
+    /// the last outcome already applied, or the project's forgetting rate changed, both are rebuilt from every outcome
+    /// since the release instead (the log is the source of truth). Each status change is an event of the project's log.
     /// </summary>
     private async Task<LiveMonitorRecord> ApplyAsync(
-        (LiveMonitorRecord Record, LiveMonitor Monitor) target, List<LiveCheckRecord> fresh,
+        (LiveMonitorRecord Record, LiveModel Live) target, List<LiveCheckRecord> fresh, double rate,
         DateTimeOffset now, CancellationToken ct, ApplyLog? log = null)
     {
-        var (record, monitor) = target;
+        var (record, live) = target;
+        var monitor = live.Monitor;
+        var (model, lapse, forgetting) = (live.Version.Model, live.Version.Settings.Learner.Lapse, new ForgettingRate(rate));
         var ordered = fresh.OrderBy(c => c.AnsweredAt).ThenBy(c => c.Id).ToList();
-        var inOrder = record.Checks == 0
-            || (ordered[0].AnsweredAt, ordered[0].Id).CompareTo((record.LastAnsweredAt, record.LastCheckId)) > 0;
+        var inOrder = (record.Checks == 0
+            || (ordered[0].AnsweredAt, ordered[0].Id).CompareTo((record.LastAnsweredAt, record.LastCheckId)) > 0)
+            && record.ForgettingPerCheck == rate
+            // A monitor stored before the model view existed has no target yet: its views are built from the log.
+            && record.TargetAnswerError > 0;
         var state = LiveMonitorState.FromBytes(record.State);
         var refreshersBetween = new Queue<EndedRefresher>();
-        if (!inOrder)
+        LiveBelief belief;
+        if (inOrder)
+        {
+            // After a refresher the model view continues from its final belief.
+            belief = record.Belief is { } saved
+                ? LiveBelief.Restore(model, lapse, RefresherStart.Unpack(saved), forgetting)
+                : new LiveBelief(model, lapse, (await refreshers.EndBeliefAsync(live.Version,
+                    await refreshers.LatestEndedAsync(record.ProjectId, record.WorkerRef, record.SessionId, record.ModelVersion, ct), ct)).Weights, forgetting);
+        }
+        else
         {
             // Every outcome since the monitor started, the new ones included (they are saved in this transaction), and
             // the refreshers it has taken in since, each at the time it ended.
             ordered = await db.LiveChecks.Where(c => c.ProjectId == record.ProjectId && c.WorkerRef == record.WorkerRef && c.ReceivedAt >= record.StartedAt)
                 .OrderBy(c => c.AnsweredAt).ThenBy(c => c.Id).ToListAsync(ct);
             refreshersBetween = new Queue<EndedRefresher>(await Refreshers.AppliedSinceAsync(db, record, ct));
-            state = monitor.Start();
+            state = monitor.Start(state.CandidateRules);
+            belief = await ReleaseBeliefAsync(live, record.SessionId, rate, ct);
             (record.LastAlarmAt, record.LastAlarm) = (null, null);
         }
 
+        (double? modelError, double? risk) = (null, null);
         foreach (var check in ordered)
         {
             while (refreshersBetween.TryPeek(out var refresher) && refresher.EndedAt <= check.AnsweredAt)
-                state = LiveMonitor.AfterRefresher(state, refreshersBetween.Dequeue().Outcome);
+            {
+                var ended = refreshersBetween.Dequeue();
+                state = LiveMonitor.AfterRefresher(state, ended.Outcome);
+                belief = new LiveBelief(model, lapse, (await refreshers.EndBeliefAsync(live.Version, ended.SessionId, ct)).Weights, forgetting);
+            }
             var before = state.Status;
-            // The count monitors read only whether the answer was wrong (candidate charts, which need the model's item
-            // and label indices, are off: see LiveMonitors).
-            var step = monitor.Apply(state, new LiveCheck(null, check.Wrong ? 1 : 0, 0));
+            var engineCheck = live.Check(check);
+            belief.Observe(engineCheck);
+            (modelError, risk) = (belief.PredictedAnswerError(), live.Risk(belief));
+            var signal = LiveModel.Signal(modelError.Value, risk.Value, monitor.Settings.TargetAnswerError);
+            var step = monitor.Apply(state, engineCheck, signal);
+            var causes = LiveCauses.Of(monitor.Settings, step, signal);
             state = step.State;
             if (step.Alarms != LiveAlarms.None)
-                (record.LastAlarmAt, record.LastAlarm) = (check.AnsweredAt, "count-cusum");
+                (record.LastAlarmAt, record.LastAlarm) = (check.AnsweredAt, LiveCauses.AlarmName(step.Alarms));
             if (state.Status != before)
                 StatusChanged(record, new LiveStatusChange(LiveStatusNames.Of(before), LiveStatusNames.Of(state.Status), check.OutcomeId,
-                    check.AnsweredAt, state.Checks, state.Errors, step.Alarms != LiveAlarms.None), !inOrder, now, log);
+                    check.AnsweredAt, state.Checks, state.Errors, step.Alarms != LiveAlarms.None)
+                {
+                    Causes = causes, ModelPredictedError = modelError,
+                    CandidateRule = step.AlarmedRule >= 0 ? live.Describe(step.AlarmedRule) : null,
+                }, !inOrder, now, log);
         }
 
-        while (refreshersBetween.TryDequeue(out var later)) state = LiveMonitor.AfterRefresher(state, later.Outcome);
+        while (refreshersBetween.TryDequeue(out var later))
+        {
+            state = LiveMonitor.AfterRefresher(state, later.Outcome);
+            (belief, modelError, risk) = (new LiveBelief(model, lapse, (await refreshers.EndBeliefAsync(live.Version, later.SessionId, ct)).Weights, forgetting), null, null);
+        }
         var last = ordered[^1];
         if (log is not null) (log.Rebuilt, log.Last) = (!inOrder, last);
         record.State = state.ToBytes();
         record.Status = LiveStatusNames.Of(state.Status);
         (record.Checks, record.Errors, record.Alarms) = (state.Checks, state.Errors, state.Alarms);
+        (record.Belief, record.ModelError, record.ModelRisk, record.ForgettingPerCheck) = (RefresherStart.Pack(belief.Weights), modelError, risk, rate);
+        record.TargetAnswerError = monitor.Settings.TargetAnswerError;
         (record.LastAnsweredAt, record.LastCheckId) = (last.AnsweredAt, last.Id);
         record.UpdatedAt = now;
         record.Revision++;
@@ -420,6 +474,7 @@ public sealed class LiveQualityOperations(
             {
                 from = change.From, to = change.To, outcomeId = change.OutcomeId, answeredAt = change.AnsweredAt,
                 checks = change.Checks, errors = change.Errors, alarm = change.Alarm, rebuilt,
+                causes = change.Causes, candidateRule = change.CandidateRule, modelPredictedError = change.ModelPredictedError,
             }),
         });
         log?.Changes.Add(change);
@@ -456,29 +511,85 @@ public sealed class LiveQualityOperations(
         return new LiveQualityView(page, rows.Count > take ? Cursor.Encode(page[^1].WorkerRef) : null);
     }
 
-    /// <summary>One annotator's live quality and outcome history; 404 when they have no live checks.</summary>
+    /// <summary>
+    /// One annotator's live quality and outcome history, each outcome with the model view's predicted answer error after
+    /// it, the model view's likely confusions (label names) and the candidate rules watched; 404 when they have no live checks.
+    /// </summary>
     public async Task<Outcome<LiveAnnotatorHistory>> HistoryAsync(string projectId, string workerRef, CancellationToken ct)
     {
         if (await ProjectScope.MissingProjectAsync(db, projectId, ct) is { } missing) return missing;
         await refreshers.ApplyEndedAsync(projectId, workerRef, ct);
         var record = await db.LiveMonitors.AsNoTracking().FirstOrDefaultAsync(m => m.ProjectId == projectId && m.WorkerRef == workerRef, ct);
         if (record is null) return Problems.NotFound("No live checks of this worker in the project.");
-        var outcomes = await db.LiveChecks.AsNoTracking()
-            .Where(c => c.ProjectId == projectId && c.WorkerRef == workerRef && c.ReceivedAt >= record.StartedAt)
-            .OrderByDescending(c => c.AnsweredAt).ThenByDescending(c => c.Id).Take(LiveQualityLimits.HistoryLength)
-            .Select(c => new LiveOutcomeView(c.OutcomeId, c.ItemId, c.Label, c.KnownLabel, c.Wrong, c.AnsweredAt, c.ReceivedAt))
-            .ToListAsync(ct);
-        outcomes.Reverse();
-        return new LiveAnnotatorHistory(View(record), outcomes);
+        var replay = await ReplayAsync(record, ct);
+        var outcomes = replay.Points.TakeLast(LiveQualityLimits.HistoryLength)
+            .Select(p => new LiveOutcomeView(p.Check.OutcomeId, p.Check.ItemId, p.Check.Label, p.Check.KnownLabel, p.Check.Wrong,
+                p.Check.AnsweredAt, p.Check.ReceivedAt)
+            {
+                ModelPredictedError = p.ModelError,
+                Alarm = p.Step.Alarms != LiveAlarms.None ? LiveCauses.AlarmName(p.Step.Alarms) : null,
+            })
+            .ToList();
+        var labels = replay.Live.Version.Model.Labels;
+        var confusions = record.Belief is { } saved
+            ? LiveBelief.Restore(replay.Live.Version.Model, replay.Live.Version.Settings.Learner.Lapse, RefresherStart.Unpack(saved), ForgettingRate.None)
+                .LikelyConfusions().Select(c => new LikelyConfusionView(labels[c.TrueLabel], labels[c.GivenLabel], c.Rate)).ToList()
+            : [];
+        var watched = LiveMonitorState.FromBytes(record.State).CandidateRules.Select(r => new WatchedRuleView(r, replay.Live.Describe(r))).ToList();
+        return new LiveAnnotatorHistory(View(record), outcomes) { LikelyConfusions = confusions, WatchedRules = watched };
+    }
+
+    /// <summary>One outcome as the monitor applied it: the step and the model view's predicted answer error after it.</summary>
+    public sealed record ReplayPoint(LiveCheckRecord Check, LiveStep Step, double ModelError);
+
+    /// <summary>The annotator's record replayed through both views, and the version's live model.</summary>
+    public sealed record Replay(LiveModel Live, IReadOnlyList<ReplayPoint> Points, IReadOnlyList<EndedRefresher> Refreshers);
+
+    /// <summary>
+    /// Every outcome since the monitor started through both views, from the release, with the refreshers it took in at
+    /// the times they ended, at the forgetting rate the stored view was moved with: the same steps as a rebuild, so the
+    /// pictures and the history show what the monitor did.
+    /// </summary>
+    public async Task<Replay> ReplayAsync(LiveMonitorRecord record, CancellationToken ct)
+    {
+        var live = monitors.ModelOf(await versions.GetAsync(record.ProjectId, record.ModelVersion, ct));
+        var (model, lapse, forgetting) = (live.Version.Model, live.Version.Settings.Learner.Lapse, new ForgettingRate(record.ForgettingPerCheck));
+        var checks = await db.LiveChecks.AsNoTracking()
+            .Where(c => c.ProjectId == record.ProjectId && c.WorkerRef == record.WorkerRef && c.ReceivedAt >= record.StartedAt)
+            .OrderBy(c => c.AnsweredAt).ThenBy(c => c.Id).ToListAsync(ct);
+        var ended = await Refreshers.AppliedSinceAsync(db, record, ct);
+        var pending = new Queue<EndedRefresher>(ended);
+        var state = live.Monitor.Start(LiveMonitorState.FromBytes(record.State).CandidateRules);
+        var belief = await ReleaseBeliefAsync(live, record.SessionId, record.ForgettingPerCheck, ct);
+        var points = new List<ReplayPoint>(checks.Count);
+        foreach (var check in checks)
+        {
+            while (pending.TryPeek(out var refresher) && refresher.EndedAt <= check.AnsweredAt)
+            {
+                var done = pending.Dequeue();
+                state = LiveMonitor.AfterRefresher(state, done.Outcome);
+                belief = new LiveBelief(model, lapse, (await refreshers.EndBeliefAsync(live.Version, done.SessionId, ct)).Weights, forgetting);
+            }
+            var engineCheck = live.Check(check);
+            belief.Observe(engineCheck);
+            var error = belief.PredictedAnswerError();
+            var step = live.Monitor.Apply(state, engineCheck, LiveModel.Signal(error, live.Risk(belief), live.Monitor.Settings.TargetAnswerError));
+            state = step.State;
+            points.Add(new ReplayPoint(check, step, error));
+        }
+        return new Replay(live, points, ended);
     }
 
     internal static LiveAnnotatorView View(LiveMonitorRecord m)
     {
         Interval? interval = m.Checks > 0 ? ProportionIntervals.Wilson(m.Errors, m.Checks) : null;
+        var model = LiveViewReadings.Model(m.ModelError, m.ModelRisk, m.TargetAnswerError);
+        var count = LiveViewReadings.Count(interval?.Low, interval?.High, m.TargetAnswerError);
         return new LiveAnnotatorView(
             m.WorkerRef, m.SessionId, m.ModelVersion, m.Status, m.Checks, m.Errors,
             m.Checks > 0 ? (double)m.Errors / m.Checks : null, interval?.Low, interval?.High,
-            m.Alarms, m.LastAlarmAt, m.LastAlarm, m.StartedAt, m.LastAnsweredAt);
+            m.Alarms, m.LastAlarmAt, m.LastAlarm, m.StartedAt, m.LastAnsweredAt, m.TargetAnswerError, m.ModelError, m.ModelRisk,
+            model, count, LiveViewReadings.Agree(model, count));
     }
 
     private static bool Same(LiveCheckInput a, LiveCheckInput b) =>

@@ -6,7 +6,15 @@ using TeachServe.Server.Webhooks;
 namespace TeachServe.Server.LiveQuality;
 
 /// <summary>One status change of a live monitor while a batch was applied: the outcome that caused it and the counts after it.</summary>
-public sealed record LiveStatusChange(string From, string To, string OutcomeId, DateTimeOffset AnsweredAt, int Checks, int Errors, bool Alarm);
+public sealed record LiveStatusChange(string From, string To, string OutcomeId, DateTimeOffset AnsweredAt, int Checks, int Errors, bool Alarm)
+{
+    /// <summary>The views that said "worse than target" on that outcome (<see cref="LiveCauses"/>).</summary>
+    public IReadOnlyList<string> Causes { get; init; } = [];
+    /// <summary>For a candidate-rule alarm, the rule in words.</summary>
+    public string? CandidateRule { get; init; }
+    /// <summary>The model view's predicted answer error after that outcome.</summary>
+    public double? ModelPredictedError { get; init; }
+}
 
 /// <summary>
 /// The <c>data</c> of an <c>org.teachserve.live.status</c> webhook: a released annotator's live-quality status moved
@@ -17,9 +25,14 @@ public sealed record LiveStatusChange(string From, string To, string OutcomeId, 
 /// <param name="Alarm">Whether this outcome raised a monitor alarm.</param>
 /// <param name="Rebuilt">True when an earlier outcome arrived late and the state was rebuilt from the log: the change
 /// then sums up the rebuild (from the status before the batch to the status after it).</param>
+/// <param name="Causes">Which views said "worse than target" on that outcome: <c>count-chart</c>, <c>candidate-rule</c>,
+/// <c>model-view</c> (none for a change back to reliable).</param>
+/// <param name="CandidateRule">For a candidate-rule alarm, the rule the answers follow, in words.</param>
+/// <param name="ModelPredictedError">The model view's predicted answer error after that outcome.</param>
 public sealed record LiveStatusData(
     string ProjectId, string SessionId, string WorkerRef, string From, string To, int Checks, int Errors, bool Alarm,
-    string OutcomeId, DateTimeOffset AnsweredAt, bool Rebuilt);
+    string OutcomeId, DateTimeOffset AnsweredAt, bool Rebuilt, IReadOnlyList<string> Causes, string? CandidateRule,
+    double? ModelPredictedError);
 
 /// <summary>
 /// Turns a batch's status changes into webhook deliveries, written to the outbox in the batch's transaction (all or
@@ -46,13 +59,16 @@ public static class LiveStatusWebhooks
             // The replay may end in its start status without changing at all, while receivers were told otherwise.
             sent = [changes.Count > 0
                 ? changes[^1] with { From = statusBefore }
-                : new LiveStatusChange(statusBefore, record.Status, lastApplied.OutcomeId, lastApplied.AnsweredAt, record.Checks, record.Errors, false)];
+                : new LiveStatusChange(statusBefore, record.Status, lastApplied.OutcomeId, lastApplied.AnsweredAt, record.Checks, record.Errors, false)
+                {
+                    ModelPredictedError = record.ModelError,
+                }];
         }
         var count = 0;
         foreach (var c in sent)
         {
             var data = new LiveStatusData(record.ProjectId, record.SessionId, record.WorkerRef, c.From, c.To, c.Checks, c.Errors,
-                c.Alarm, c.OutcomeId, c.AnsweredAt, rebuilt);
+                c.Alarm, c.OutcomeId, c.AnsweredAt, rebuilt, c.Causes, c.CandidateRule, c.ModelPredictedError);
             if (Outbox.Message(project, EventTypes.LiveStatusChanged, now, record.SessionId, record.WorkerRef, data) is { } message)
             {
                 db.Outbox.Add(message);

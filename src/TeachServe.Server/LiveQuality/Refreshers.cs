@@ -35,17 +35,7 @@ public sealed class Refreshers(TeachServeDb db, TimeProvider time, ModelVersionC
         if (release is null)
             return Problems.Conflict("This worker has not been released in the project; a refresher is for released annotators (start an onboarding session instead).");
 
-        // The worker's sessions in the order they started (the start events' sequence), from the release on; sessions
-        // of one worker never overlap, so the last to start that has ended is the last to end.
-        var started = await db.Events.AsNoTracking()
-            .Where(e => e.ProjectId == projectId && e.WorkerRef == workerRef && e.Type == EventTypes.SessionStarted)
-            .OrderBy(e => e.Id).Select(e => e.SessionId!).ToListAsync(ct);
-        var since = started.SkipWhile(id => id != release.SessionId).ToList();
-        var candidates = await db.Sessions.AsNoTracking()
-            .Where(s => since.Contains(s.Id) && !s.IsActive && s.ModelVersion == release.ModelVersion
-                        && (s.Id == release.SessionId || s.Purpose == SessionPurposes.Refresher))
-            .ToDictionaryAsync(s => s.Id, StringComparer.Ordinal, ct);
-        var from = since.AsEnumerable().Reverse().Select(id => candidates.GetValueOrDefault(id)).First(s => s is not null)!;
+        var from = await LatestEndedAsync(projectId, workerRef, release.SessionId, release.ModelVersion, ct);
         var version = await versions.GetAsync(projectId, release.ModelVersion, ct);
         var ended = await SessionLoader.ReplayAsync(db, version, from, ct);
 
@@ -76,6 +66,36 @@ public sealed class Refreshers(TeachServeDb db, TimeProvider time, ModelVersionC
         };
         return new RefresherPlan(version, start, weights);
     }
+
+    /// <summary>
+    /// The worker's newest ended session since the release of <paramref name="releaseSessionId"/> on its version: the
+    /// release itself, or a later refresher. Both refreshers and the live model view start from its final belief.
+    /// </summary>
+    public async Task<Session> LatestEndedAsync(string projectId, string workerRef, string releaseSessionId, int modelVersion, CancellationToken ct)
+    {
+        // The worker's sessions in the order they started (the start events' sequence), from the release on; sessions
+        // of one worker never overlap, so the last to start that has ended is the last to end.
+        var started = await db.Events.AsNoTracking()
+            .Where(e => e.ProjectId == projectId && e.WorkerRef == workerRef && e.Type == EventTypes.SessionStarted)
+            .OrderBy(e => e.Id).Select(e => e.SessionId!).ToListAsync(ct);
+        var since = started.SkipWhile(id => id != releaseSessionId).ToList();
+        var candidates = await db.Sessions.AsNoTracking()
+            .Where(s => since.Contains(s.Id) && !s.IsActive && s.ModelVersion == modelVersion
+                        && (s.Id == releaseSessionId || s.Purpose == SessionPurposes.Refresher))
+            .ToDictionaryAsync(s => s.Id, StringComparer.Ordinal, ct);
+        return since.AsEnumerable().Reverse().Select(id => candidates.GetValueOrDefault(id)).First(s => s is not null)!;
+    }
+
+    /// <summary>The final belief of an ended session, from its event log, and the lapse it was filtered with.</summary>
+    public async Task<(double[] Weights, double Lapse)> EndBeliefAsync(CompiledVersion version, Session session, CancellationToken ct)
+    {
+        var ended = await SessionLoader.ReplayAsync(db, version, session, ct);
+        return (ended.Belief.ToArray(), ended.BeliefState.Lapse);
+    }
+
+    /// <summary>The final belief of the session <paramref name="sessionId"/>.</summary>
+    public async Task<(double[] Weights, double Lapse)> EndBeliefAsync(CompiledVersion version, string sessionId, CancellationToken ct) =>
+        await EndBeliefAsync(version, await db.Sessions.AsNoTracking().FirstAsync(s => s.Id == sessionId, ct), ct);
 
     /// <summary>
     /// Applies every refresher of the worker that ended since their monitor last took one in, in its own transaction;
@@ -131,6 +151,8 @@ public sealed class Refreshers(TeachServeDb db, TimeProvider time, ModelVersionC
             if (endedAt < record.StartedAt || refresher.ModelVersion != record.ModelVersion) continue;
             var before = state.Status;
             state = LiveMonitor.AfterRefresher(state, Outcome(refresher.Phase));
+            // The model view continues from the refresher's final belief, loaded at the next live check.
+            (record.Belief, record.ModelError, record.ModelRisk) = (null, null, null);
             if (state.Status != before)
                 db.Events.Add(StatusEvent(record, before, state.Status, now, refresher.Start.SessionId));
             if (endedAt > record.LastAnsweredAt) record.LastAnsweredAt = endedAt;

@@ -44,13 +44,28 @@ public sealed record LiveAnnotatorDetail(
     IReadOnlyList<LivePoint> Points,
     IReadOnlyList<LiveStatusChange> Changes,
     IReadOnlyList<LiveOutcomeView> Outcomes,
-    int OutcomePage);
+    int OutcomePage)
+{
+    /// <summary>The model view's likeliest confusions now, by label name.</summary>
+    public IReadOnlyList<LikelyConfusionView> LikelyConfusions { get; init; } = [];
+    /// <summary>The candidate rules watched by their own charts.</summary>
+    public IReadOnlyList<WatchedRuleView> WatchedRules { get; init; } = [];
+    /// <summary>The forgetting rate the model view moves with.</summary>
+    public double ForgettingPerCheck { get; init; }
+}
 
 /// <summary>
 /// The live error after one check: cumulative since the monitor started, and over the last
-/// <see cref="LiveConsoleReads.Window"/> checks with its Wilson 95 % interval; whether the CUSUM alarmed at it.
+/// <see cref="LiveConsoleReads.Window"/> checks with its Wilson 95 % interval; whether a monitor alarmed at it; and the
+/// model view's predicted answer error after it.
 /// </summary>
-public sealed record LivePoint(int Check, string OutcomeId, DateTimeOffset AnsweredAt, bool Wrong, double Cumulative, double Window, double WindowLow, double WindowHigh, bool Alarm);
+public sealed record LivePoint(int Check, string OutcomeId, DateTimeOffset AnsweredAt, bool Wrong, double Cumulative, double Window, double WindowLow, double WindowHigh, bool Alarm,
+    double ModelError);
 
 /// <summary>One <c>live.status</c> event: from, to, and what caused it (an outcome, with or without an alarm, or a refresher's end).</summary>
-public sealed record LiveStatusChange(DateTimeOffset At, string From, string To, string? OutcomeId, DateTimeOffset? AnsweredAt, int? Checks, int? Errors, bool Alarm, string? RefresherSessionId);
+public sealed record LiveStatusChange(DateTimeOffset At, string From, string To, string? OutcomeId, DateTimeOffset? AnsweredAt, int? Checks, int? Errors, bool Alarm, string? RefresherSessionId)
+{
+    /// <summary>The views that said "worse than target" (<see cref="LiveQuality.LiveCauses"/>).</summary>
+    public IReadOnlyList<string> Causes { get; init; } = [];
+    public string? CandidateRule { get; init; }
+}

@@ -64,14 +64,11 @@ public static class LiveConsoleReads
         var history = await live.HistoryAsync(projectId, workerRef, ct);
         if (!history.Succeeded) return history.Problem;
         var record = await db.LiveMonitors.AsNoTracking().FirstAsync(m => m.ProjectId == projectId && m.WorkerRef == workerRef, ct);
-        var monitor = monitors.For(await versions.GetAsync(projectId, record.ModelVersion, ct));
 
-        var checks = await db.LiveChecks.AsNoTracking()
-            .Where(c => c.ProjectId == projectId && c.WorkerRef == workerRef && c.ReceivedAt >= record.StartedAt)
-            .OrderBy(c => c.AnsweredAt).ThenBy(c => c.Id)
-            .Select(c => new LiveOutcomeView(c.OutcomeId, c.ItemId, c.Label, c.KnownLabel, c.Wrong, c.AnsweredAt, c.ReceivedAt))
-            .ToListAsync(ct);
-        var points = Replay(monitor, checks, await Refreshers.AppliedSinceAsync(db, record, ct));
+        var replay = await live.ReplayAsync(record, ct);
+        var points = Points(replay.Points);
+        var checks = replay.Points.Select(p => new LiveOutcomeView(p.Check.OutcomeId, p.Check.ItemId, p.Check.Label, p.Check.KnownLabel,
+            p.Check.Wrong, p.Check.AnsweredAt, p.Check.ReceivedAt) { ModelPredictedError = p.ModelError }).ToList();
 
         var pages = Math.Max(1, (checks.Count + OutcomeRows - 1) / OutcomeRows);
         outcomePage = Math.Clamp(outcomePage, 1, pages);
@@ -82,35 +79,33 @@ public static class LiveConsoleReads
             .OrderBy(e => e.Id).Select(e => new { e.At, e.DataJson }).ToListAsync(ct);
         var changes = events.Select(e => Change(e.At, e.DataJson)).ToList();
 
-        var design = monitor.Settings.Cusum;
-        return new LiveAnnotatorDetail(history.Value.Annotator, design.TargetError, design.DriftError, points, changes, outcomes, outcomePage);
+        var design = replay.Live.Monitor.Settings.Cusum;
+        return new LiveAnnotatorDetail(history.Value.Annotator, design.TargetError, design.DriftError, points, changes, outcomes, outcomePage)
+        {
+            LikelyConfusions = history.Value.LikelyConfusions, WatchedRules = history.Value.WatchedRules,
+            ForgettingPerCheck = record.ForgettingPerCheck,
+        };
     }
 
     /// <summary>
-    /// The checks through the annotator's monitor from its start state, with the refreshers it took in at the times they
-    /// ended: the same order and steps as the monitor's own rebuild, so the alarms fall on the checks that raised them.
+    /// The points of the monitor's own replay (<see cref="LiveQualityOperations.ReplayAsync"/>), so the alarms fall on the
+    /// checks that raised them, with the moving window of the count view and the model view's predicted error.
     /// </summary>
-    public static List<LivePoint> Replay(LiveMonitor monitor, IReadOnlyList<LiveOutcomeView> checks, IReadOnlyList<EndedRefresher> refreshers)
+    public static List<LivePoint> Points(IReadOnlyList<LiveQualityOperations.ReplayPoint> replay)
     {
-        var state = monitor.Start();
-        var pending = new Queue<EndedRefresher>(refreshers);
-        var points = new List<LivePoint>(checks.Count);
+        var points = new List<LivePoint>(replay.Count);
         var errors = 0;
         var inWindow = 0;
-        for (var i = 0; i < checks.Count; i++)
+        for (var i = 0; i < replay.Count; i++)
         {
-            var check = checks[i];
-            while (pending.TryPeek(out var refresher) && refresher.EndedAt <= check.AnsweredAt)
-                state = LiveMonitor.AfterRefresher(state, pending.Dequeue().Outcome);
-            var step = monitor.Apply(state, new LiveCheck(null, check.Wrong ? 1 : 0, 0));
-            state = step.State;
+            var (check, step) = (replay[i].Check, replay[i].Step);
             if (check.Wrong) errors++;
             if (check.Wrong) inWindow++;
-            if (i >= Window && checks[i - Window].Wrong) inWindow--;
+            if (i >= Window && replay[i - Window].Check.Wrong) inWindow--;
             var n = Math.Min(i + 1, Window);
             var interval = ProportionIntervals.Wilson(inWindow, n);
             points.Add(new LivePoint(i + 1, check.OutcomeId, check.AnsweredAt, check.Wrong, errors / (double)(i + 1),
-                inWindow / (double)n, interval.Low, interval.High, step.Alarms != LiveAlarms.None));
+                inWindow / (double)n, interval.Low, interval.High, step.Alarms != LiveAlarms.None, replay[i].ModelError));
         }
         return points;
     }
@@ -122,7 +117,8 @@ public static class LiveConsoleReads
         int? Number(string name) => data[name] is JsonValue v && v.TryGetValue<int>(out var n) ? n : null;
         DateTimeOffset? Time(string name) => data[name] is JsonValue v && v.TryGetValue<DateTimeOffset>(out var t) ? t : null;
         var alarm = data["alarm"] is JsonValue a && a.TryGetValue<bool>(out var b) && b;
+        var causes = data["causes"] is JsonArray list ? list.Select(c => c?.GetValue<string>() ?? "").ToList() : [];
         return new LiveStatusChange(at, Text("from") ?? "", Text("to") ?? "", Text("outcomeId"), Time("answeredAt"), Number("checks"), Number("errors"),
-            alarm, Text("refresherSessionId"));
+            alarm, Text("refresherSessionId")) { Causes = causes, CandidateRule = Text("candidateRule") };
     }
 }

@@ -5,7 +5,7 @@ namespace TeachServe.Server.OwnerConsole;
 
 /// <summary>
 /// One annotator's live error over their checks: over the last <see cref="LiveConsoleReads.Window"/> checks with its
-/// Wilson 95 % band, cumulative since the monitor started, the target answer error p0 as the dashed reference, and the
+/// Wilson 95 % band, cumulative since the monitor started, the model view's predicted answer error, the target answer error p0 as the dashed reference, and the
 /// drift alarms as markers. Drawn for a wide screen and for a phone, whose picture is narrower with the legend below,
 /// so that its text is not scaled down to a size nobody can read.
 /// </summary>
@@ -16,6 +16,7 @@ public static class LivePlots
 
     public static readonly SeriesStyle Moving = new(OkabeIto.Blue, MarkerShape.FilledCircle);
     public static readonly SeriesStyle Cumulative = new(OkabeIto.Black, MarkerShape.FilledSquare);
+    public static readonly SeriesStyle Model = new(OkabeIto.Orange, MarkerShape.OpenDiamond);
     public static readonly SeriesStyle Alarm = new(OkabeIto.Vermillion, MarkerShape.FilledTriangleDown);
 
     public static Plot LiveError(IReadOnlyList<LivePoint> points, double targetAnswerError, bool phone)
@@ -25,10 +26,11 @@ public static class LivePlots
         var xs = points.Select(p => (double)p.Check).ToArray();
         Marks.Band(plot, Moving, xs, points.Select(p => p.WindowLow).ToArray(), points.Select(p => p.WindowHigh).ToArray());
         Marks.Line(plot, Moving, xs, points.Select(p => p.Window).ToArray(), 0, 2);
-        Marks.Line(plot, Cumulative, xs, points.Select(p => p.Cumulative).ToArray(), 1, 2);
+        Marks.Line(plot, Cumulative, xs, points.Select(p => p.Cumulative).ToArray(), 1, 3);
+        Marks.Line(plot, Model, xs, points.Select(p => p.ModelError).ToArray(), 2, 3);
         var alarms = points.Where(p => p.Alarm).ToList();
         var x = AxisRanges.Steps(xs, atLeast: 10);
-        var y = AxisRanges.Rate(points.Select(p => p.WindowHigh).Append(targetAnswerError));
+        var y = AxisRanges.Rate(points.Select(p => p.WindowHigh).Concat(points.Select(p => p.ModelError)).Append(targetAnswerError));
         // Alarms sit on the top edge, where no line runs under them, each straight above its check.
         var top = y.High * 0.96;
         Marks.Points(plot, Alarm, alarms.Select(p => (double)p.Check).ToArray(), alarms.Select(_ => top).ToArray(), Marks.MarkerSize + 3);
@@ -41,6 +43,7 @@ public static class LivePlots
         legend.ManualItems.Clear();
         legend.ManualItems.Add(PlotTheme.LineItem($"last {LiveConsoleReads.Window} checks (95 % band)", Moving));
         legend.ManualItems.Add(PlotTheme.LineItem("since monitoring began", Cumulative));
+        legend.ManualItems.Add(PlotTheme.LineItem("model view (predicted)", Model));
         if (alarms.Count > 0) legend.ManualItems.Add(PlotTheme.PointItem("drift alarm", Alarm));
         legend.FontName = PlotTheme.Face;
         legend.SetBestFontOnEachRender = false;

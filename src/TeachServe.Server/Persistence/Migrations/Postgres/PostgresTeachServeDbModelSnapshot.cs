@@ -321,11 +321,17 @@ namespace TeachServe.Server.Persistence.Migrations.Postgres
                     b.Property<int>("Alarms")
                         .HasColumnType("integer");
 
+                    b.Property<byte[]>("Belief")
+                        .HasColumnType("bytea");
+
                     b.Property<int>("Checks")
                         .HasColumnType("integer");
 
                     b.Property<int>("Errors")
                         .HasColumnType("integer");
+
+                    b.Property<double>("ForgettingPerCheck")
+                        .HasColumnType("double precision");
 
                     b.Property<string>("LastAlarm")
                         .HasMaxLength(40)
@@ -339,6 +345,12 @@ namespace TeachServe.Server.Persistence.Migrations.Postgres
 
                     b.Property<long>("LastCheckId")
                         .HasColumnType("bigint");
+
+                    b.Property<double?>("ModelError")
+                        .HasColumnType("double precision");
+
+                    b.Property<double?>("ModelRisk")
+                        .HasColumnType("double precision");
 
                     b.Property<int>("ModelVersion")
                         .HasColumnType("integer");
@@ -364,6 +376,9 @@ namespace TeachServe.Server.Persistence.Migrations.Postgres
                         .IsRequired()
                         .HasMaxLength(16)
                         .HasColumnType("character varying(16)");
+
+                    b.Property<double>("TargetAnswerError")
+                        .HasColumnType("double precision");
 
                     b.Property<DateTimeOffset>("UpdatedAt")
                         .HasColumnType("timestamp with time zone");

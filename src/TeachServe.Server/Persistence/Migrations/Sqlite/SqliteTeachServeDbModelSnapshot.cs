@@ -309,11 +309,17 @@ namespace TeachServe.Server.Persistence.Migrations.Sqlite
                     b.Property<int>("Alarms")
                         .HasColumnType("INTEGER");
 
+                    b.Property<byte[]>("Belief")
+                        .HasColumnType("BLOB");
+
                     b.Property<int>("Checks")
                         .HasColumnType("INTEGER");
 
                     b.Property<int>("Errors")
                         .HasColumnType("INTEGER");
+
+                    b.Property<double>("ForgettingPerCheck")
+                        .HasColumnType("REAL");
 
                     b.Property<string>("LastAlarm")
                         .HasMaxLength(40)
@@ -327,6 +333,12 @@ namespace TeachServe.Server.Persistence.Migrations.Sqlite
 
                     b.Property<long>("LastCheckId")
                         .HasColumnType("INTEGER");
+
+                    b.Property<double?>("ModelError")
+                        .HasColumnType("REAL");
+
+                    b.Property<double?>("ModelRisk")
+                        .HasColumnType("REAL");
 
                     b.Property<int>("ModelVersion")
                         .HasColumnType("INTEGER");
@@ -352,6 +364,9 @@ namespace TeachServe.Server.Persistence.Migrations.Sqlite
                         .IsRequired()
                         .HasMaxLength(16)
                         .HasColumnType("TEXT");
+
+                    b.Property<double>("TargetAnswerError")
+                        .HasColumnType("REAL");
 
                     b.Property<long>("UpdatedAt")
                         .HasColumnType("INTEGER");
