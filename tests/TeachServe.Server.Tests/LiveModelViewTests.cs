@@ -112,8 +112,12 @@ public sealed class LiveModelViewTests
             var history = await HistoryAsync(app, keys, w);
             var a = history["annotator"]!;
             var drifted = history["outcomes"]!.AsArray().Skip(100).ToList();
-            // The count chart alarmed during the drift, and the model view ends above target; the views do not disagree.
-            Assert.Contains(drifted, o => o!["alarm"]?.GetValue<string>().Contains("count-cusum", StringComparison.Ordinal) == true);
+            // A model-free chart alarmed during the drift (for the shortcut the count chart or the watched rule's chart,
+            // whichever is first: the rule, and so its error, comes from the release belief, which depends on the
+            // session's random seed; for random answering the count chart), and the model view ends above target; the
+            // views do not disagree.
+            string[] charts = w == "shortcut" ? ["count-cusum", "candidate-rule"] : ["count-cusum"];
+            Assert.Contains(drifted, o => o!["alarm"]?.GetValue<string>() is { } alarm && charts.Any(c => alarm.Contains(c, StringComparison.Ordinal)));
             Assert.True(a["modelPredictedError"]!.GetValue<double>() > target, $"{w}: model error {a["modelPredictedError"]} at target {target}");
             Assert.Equal("above-target", a["modelView"]!.GetValue<string>());
             Assert.True(a["viewsAgree"]!.GetValue<bool>());
