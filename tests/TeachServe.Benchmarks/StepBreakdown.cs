@@ -78,7 +78,14 @@ public static class StepBreakdown
             }
         }
 
-        output.WriteLine(string.Create(CultureInfo.InvariantCulture, $"{benchCase}: {rounds} interleaved rounds; median per call, median of per-round ratios to the floor"));
+        var before = GC.GetAllocatedBytesForCurrentThread();
+        for (var c = 0; c < 100; c++)
+        {
+            step.PerAnswer();
+        }
+
+        var allocated = (GC.GetAllocatedBytesForCurrentThread() - before) / 100.0;
+        output.WriteLine(string.Create(CultureInfo.InvariantCulture, $"{benchCase}: {rounds} interleaved rounds; median per call, median of per-round ratios to the floor; per-answer allocates {allocated:0.#} bytes per call"));
         for (var p = 0; p < parts.Length; p++)
         {
             var ratios = new double[rounds];
