@@ -13,6 +13,12 @@ if (args.Length > 0 && args[0] == "--profile")
     return;
 }
 
+if (args.Length > 0 && args[0] == "--breakdown")
+{
+    StepBreakdown.Run(args.Length > 1 ? args[1] : BenchCases.Small, args.Length > 2 ? int.Parse(args[2], System.Globalization.CultureInfo.InvariantCulture) : 30, Console.Out);
+    return;
+}
+
 if (args.Length > 0 && args[0] == "--quick")
 {
     QuickCheck.Run(args.Length > 1 ? args[1] : BenchCases.Small, Console.Out);

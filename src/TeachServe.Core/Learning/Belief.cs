@@ -15,6 +15,10 @@ public sealed class Belief
     private readonly double[] _belief;
     private readonly double[] _learner;
 
+    // Σ_h Q(h|A), summed in hypothesis order as the move step needs it anyway; the adaptive policy reads it at
+    // every step instead of summing |H| numbers again (the same sum in the same order, so the same value).
+    private double _learnerTotal;
+
     public Belief(ModelVersion model, double q, double lapse)
     {
         ArgumentOutOfRangeException.ThrowIfLessThan(q, 0.0);
@@ -26,6 +30,7 @@ public sealed class Belief
         Lapse = lapse;
         _belief = model.Prior.ToArray();
         _learner = model.Prior.ToArray();
+        _learnerTotal = SumInOrder(_learner);
     }
 
     /// <summary>
@@ -73,6 +78,7 @@ public sealed class Belief
         Lapse = other.Lapse;
         _belief = (double[])other._belief.Clone();
         _learner = (double[])other._learner.Clone();
+        _learnerTotal = other._learnerTotal;
     }
 
     public double Q { get; }
@@ -84,6 +90,9 @@ public sealed class Belief
 
     /// <summary>The learner's unnormalised posterior Q(h|A) over the teaching items shown so far.</summary>
     public ReadOnlySpan<double> LearnerWeights => _learner;
+
+    /// <summary>Σ_h Q(h|A) over <see cref="LearnerWeights"/>, added in hypothesis order.</summary>
+    public double LearnerTotal => _learnerTotal;
 
     public Belief Clone() => new(this);
 
@@ -97,6 +106,7 @@ public sealed class Belief
 
         other._belief.CopyTo(_belief, 0);
         other._learner.CopyTo(_learner, 0);
+        _learnerTotal = other._learnerTotal;
     }
 
     /// <summary>A teaching answer: observe the answer, then the learner sees the true label and may switch.</summary>
@@ -178,12 +188,8 @@ public sealed class Belief
         }
 
         var jump = (1.0 - q) * wrongMass;
-        var learnerTotal = 0.0;
-        for (var h = 0; h < _learner.Length; h++)
-        {
-            learnerTotal += _learner[h];
-        }
-
+        var learnerTotal = SumInOrder(_learner);
+        _learnerTotal = learnerTotal;
         var factor = jump / learnerTotal;
         var total = 0.0;
         for (var h = 0; h < _belief.Length; h++)
@@ -238,6 +244,21 @@ public sealed class Belief
         }
 
         return weighted / total;
+    }
+
+    /// <summary>
+    /// A plain sum from the first number to the last: the one order every caller of <see cref="LearnerTotal"/> has
+    /// always used, so cached and recomputed totals agree to the last bit.
+    /// </summary>
+    private static double SumInOrder(ReadOnlySpan<double> values)
+    {
+        var total = 0.0;
+        foreach (var v in values)
+        {
+            total += v;
+        }
+
+        return total;
     }
 
     private void Scale(double factor)

@@ -99,6 +99,51 @@ public class BeliefTests
         Assert.Equal(1.0, belief.Weights.ToArray().Sum(), 12);
     }
 
+    [Theory]
+    [InlineData(31, 2)]
+    [InlineData(32, 3)]
+    public void Learner_total_is_the_in_order_sum_of_the_learner_weights_to_the_last_bit(int seed, int labels)
+    {
+        // The adaptive policy reads LearnerTotal where it used to add the learner weights itself, first to last;
+        // the same bits mean the same choices. Exact comparison on purpose.
+        var model = TinyModels.Random(seed, m: 300, teach: 60, test: 20, labels, alpha: 1.5, lapse: 0.05);
+        var belief = new Belief(model, model.Q, model.Learner.Lapse);
+        AssertTotal(belief);
+        var random = new SeededRandom((ulong)seed);
+        for (var x = 0; x < 40; x++)
+        {
+            if (x % 5 == 4)
+            {
+                belief.Observe(x, random.NextInt(labels));
+            }
+            else
+            {
+                belief.Teach(x, random.NextInt(labels));
+            }
+
+            AssertTotal(belief);
+        }
+
+        AssertTotal(belief.Clone());
+        var copy = new Belief(model, model.Q, model.Learner.Lapse);
+        copy.CopyFrom(belief);
+        AssertTotal(copy);
+        Assert.NotEqual(model.Prior.ToArray().Sum(), copy.LearnerTotal);
+        var continued = Belief.Continue(model, model.Q, model.Learner.Lapse, belief.Weights);
+        AssertTotal(continued);
+
+        static void AssertTotal(Belief b)
+        {
+            var total = 0.0;
+            foreach (var w in b.LearnerWeights)
+            {
+                total += w;
+            }
+
+            Assert.Equal(BitConverter.DoubleToInt64Bits(total), BitConverter.DoubleToInt64Bits(b.LearnerTotal));
+        }
+    }
+
     [Fact]
     public void Confidence_counts_the_mass_of_good_enough_rules()
     {
